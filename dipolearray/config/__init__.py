@@ -1,0 +1,35 @@
+"""Config: TOML run descriptions, validated into frozen records and built into scenes.
+
+A config is read with :mod:`tomllib`; every key is declared once in
+:data:`SECTIONS` with its kind, unit, default and allowed range. Unknown keys fail
+with the dotted path and the nearest valid key. The same declaration renders the
+reference table in ``docs/config.md``. :func:`build_scene` turns a checked config into
+the same API calls a Python user makes; nothing here reads files by itself except
+:func:`load_config`, which is handed a path.
+
+Public names
+------------
+load_config, parse_config
+    Read and check a TOML file or text -> :class:`RunConfig`.
+RunConfig
+    The checked config (frozen).
+build_scene
+    :class:`~dipolearray.scene.Scene` from a :class:`RunConfig`.
+run_config
+    Build, solve and (optionally) store one config; returns the solution and path.
+SECTIONS, config_markdown
+    The key declarations and their rendering for the docs.
+"""
+
+from ._build import build_scene, run_config
+from ._schema import SECTIONS, RunConfig, config_markdown, load_config, parse_config
+
+__all__ = [
+    "load_config",
+    "parse_config",
+    "RunConfig",
+    "build_scene",
+    "run_config",
+    "SECTIONS",
+    "config_markdown",
+]

@@ -1,0 +1,334 @@
+from __future__ import annotations
+
+import numbers
+import tomllib
+from dataclasses import dataclass
+from pathlib import Path
+from types import MappingProxyType
+
+from .._validate import nearest
+from ..errors import ConfigError
+
+
+@dataclass(frozen=True)
+class Key:
+    """Declaration of one config key."""
+
+    kind: str  # "str", "int", "float", "length", "field", "vector", "list[str]", "length3", "directions"
+    default: object
+    doc: str
+    choices: tuple = ()
+    minimum: float | None = None
+    maximum: float | None = None
+    required: bool = False
+
+
+_NO = None
+OBSERVABLE_NAMES = (
+    "local_field",
+    "interior_field",
+    "total_moment",
+    "energy",
+    "forces",
+    "torques",
+    "effective_permittivity",
+)
+
+SECTIONS = {
+    "run": {
+        "name": Key("str", "run", "label of the run, used in summaries"),
+        "output": Key("str", "", "HDF5 file to write (relative to the working folder); empty: runs/<name>.h5"),
+    },
+    "host": {
+        "name": Key("str", "host", "label of the host material"),
+        "eps": Key("float", _NO, "relative permittivity eps' of the host", minimum=1e-12, required=True),
+        "eps_loss": Key("float", 0.0, "loss part eps'' >= 0 (eps = eps' - j eps'')", minimum=0.0),
+    },
+    "population": {
+        "name": Key("str", "filler", "label of the inclusion population"),
+        "shape": Key("str", "sphere", "body shape", choices=("sphere", "spheroid", "ellipsoid")),
+        "radius": Key("length", _NO, "sphere radius (shape = sphere)", minimum=0.0),
+        "polar": Key("length", _NO, "semi-axis along the symmetry axis (shape = spheroid)", minimum=0.0),
+        "equatorial": Key("length", _NO, "equatorial semi-axis (shape = spheroid)", minimum=0.0),
+        "semi_axes": Key("length3", _NO, "three semi-axes a, b, c (shape = ellipsoid)"),
+        "eps": Key("float", _NO, "relative permittivity eps' of the inclusion", required=True),
+        "eps_loss": Key("float", 0.0, "loss part eps'' >= 0", minimum=0.0),
+        "fraction": Key("float", 1.0, "share of the bodies in this population (normalised over populations)", minimum=0.0),
+        "orientation": Key("str", "aligned", "orientation of non-spherical bodies", choices=("aligned", "random")),
+        "axis": Key("vector", (0.0, 0.0, 1.0), "body z axis direction when aligned"),
+    },
+    "arrangement": {
+        "kind": Key("str", "random", "generator", choices=("random", "cubic", "chain")),
+        "n_bodies": Key("int", 1000, "number of bodies (random, chain)", minimum=1, maximum=200000),
+        "volume_fraction": Key("float", 0.1, "filler volume fraction (random)", minimum=1e-6, maximum=0.3),
+        "region": Key("str", "sphere", "sample shape (random)", choices=("sphere", "cube")),
+        "seed": Key("int", 0, "random seed (random, and random orientations)", minimum=0),
+        "spacing": Key("length", _NO, "lattice constant (cubic)", minimum=0.0),
+        "cut_radius": Key("length", _NO, "radius of the spherical sample cut from the lattice (cubic)", minimum=0.0),
+        "gap": Key("length", "0 m", "surface-to-surface gap between neighbours (chain)"),
+        "axis": Key("vector", (0.0, 0.0, 1.0), "chain direction (chain)"),
+    },
+    "field": {
+        "strength": Key("field", "1 V/um", "applied field strength |E0|"),
+        "directions": Key("directions", "all", "'all' for x, y and z (full tensor) or a list of vectors"),
+    },
+    "solver": {
+        "method": Key("str", "auto", "solver", choices=("auto", "fixed_point", "cocg", "gmres", "direct")),
+        "rtol": Key("float", 1e-8, "relative residual tolerance", minimum=0.0, maximum=1.0),
+        "atol": Key("float", 0.0, "absolute residual tolerance", minimum=0.0),
+        "maxiter": Key("int", 1000, "iteration limit", minimum=1, maximum=10**6),
+        "relaxation": Key("float", 1.0, "fixed-point relaxation w", minimum=1e-6, maximum=2.0),
+    },
+    "output": {
+        "observables": Key(
+            "list[str]",
+            ("local_field", "interior_field", "total_moment", "energy", "forces", "effective_permittivity"),
+            "observables to compute and store",
+            choices=OBSERVABLE_NAMES,
+        ),
+    },
+}
+
+_LIST_SECTIONS = {"population"}
+_REQUIRED_SECTIONS = ("host", "population")
+_UNITS = {"length": ("m", "[length]"), "field": ("V/m", "[mass] * [length] / [current] / [time] ** 3")}
+_UREG = None
+
+
+def _ureg():
+    global _UREG
+    if _UREG is None:
+        import pint
+
+        _UREG = pint.UnitRegistry()
+    return _UREG
+
+
+def quantity(text, kind: str, where: str) -> float:
+    """Parse ``"0.25 um"`` / ``"1 kV/mm"`` into SI (m or V/m), naming ``where`` on error."""
+    unit, _dim = _UNITS[kind]
+    example = "'0.5 um'" if kind == "length" else "'1 kV/mm'"
+    if isinstance(text, bool) or isinstance(text, numbers.Number):
+        raise ConfigError(
+            f"{where}: give a unit with the number, e.g. {example} (got {text!r})", where
+        )
+    if not isinstance(text, str):
+        raise ConfigError(f"{where}: expected a quantity string like {example}, got {text!r}", where)
+    import pint
+
+    try:
+        q = _ureg().Quantity(text)
+        value = float(q.to(unit).magnitude)
+    except pint.errors.DimensionalityError:
+        raise ConfigError(f"{where}: {text!r} is not a {kind} (expected units like {example})", where) from None
+    except Exception:
+        raise ConfigError(f"{where}: cannot read {text!r} as a quantity like {example}", where) from None
+    if value != value or value in (float("inf"), float("-inf")):
+        raise ConfigError(f"{where}: {text!r} is not finite", where)
+    return value
+
+
+def _check_number(value, key: Key, where: str):
+    if isinstance(value, bool) or not isinstance(value, numbers.Real):
+        raise ConfigError(f"{where}: expected a number, got {value!r}", where)
+    v = float(value)
+    if v != v or abs(v) == float("inf"):
+        raise ConfigError(f"{where}: expected a finite number, got {value!r}", where)
+    if key.minimum is not None and v < key.minimum:
+        raise ConfigError(f"{where}: {value!r} is below the allowed minimum {key.minimum}", where)
+    if key.maximum is not None and v > key.maximum:
+        raise ConfigError(f"{where}: {value!r} is above the allowed maximum {key.maximum}", where)
+    return v
+
+
+def _check_value(value, key: Key, where: str):
+    k = key.kind
+    if k == "str":
+        if not isinstance(value, str):
+            raise ConfigError(f"{where}: expected a string, got {value!r}", where)
+        if key.choices and value not in key.choices:
+            hint = nearest(value, key.choices)
+            extra = f"; did you mean {hint!r}?" if hint else ""
+            raise ConfigError(
+                f"{where}: {value!r} is not allowed (choose from {', '.join(key.choices)}){extra}", where
+            )
+        return value
+    if k == "int":
+        if isinstance(value, bool) or not isinstance(value, int):
+            raise ConfigError(f"{where}: expected an integer, got {value!r}", where)
+        _check_number(value, key, where)
+        return int(value)
+    if k == "float":
+        return _check_number(value, key, where)
+    if k in ("length", "field"):
+        v = quantity(value, k, where)
+        if key.minimum is not None and v <= key.minimum and k == "length" and key.minimum == 0.0:
+            raise ConfigError(f"{where}: must be positive, got {value!r}", where)
+        return v
+    if k == "length3":
+        if not isinstance(value, list) or len(value) != 3:
+            raise ConfigError(f"{where}: expected three lengths like ['1 um', '1 um', '2 um'], got {value!r}", where)
+        out = tuple(quantity(v, "length", f"{where}[{i}]") for i, v in enumerate(value))
+        if min(out) <= 0:
+            raise ConfigError(f"{where}: semi-axes must be positive, got {value!r}", where)
+        return out
+    if k == "vector":
+        if not isinstance(value, list) or len(value) != 3:
+            raise ConfigError(f"{where}: expected three numbers like [0, 0, 1], got {value!r}", where)
+        vec = tuple(_check_number(v, Key("float", 0, ""), f"{where}[{i}]") for i, v in enumerate(value))
+        if not any(vec):
+            raise ConfigError(f"{where}: must be a non-zero vector", where)
+        return vec
+    if k == "directions":
+        if value == "all":
+            return "all"
+        if isinstance(value, list) and value and all(isinstance(v, list) for v in value):
+            return tuple(_check_value(v, Key("vector", None, ""), f"{where}[{i}]") for i, v in enumerate(value))
+        raise ConfigError(f"{where}: expected 'all' or a list of vectors like [[0, 0, 1]], got {value!r}", where)
+    if k == "list[str]":
+        if not isinstance(value, list) or not all(isinstance(v, str) for v in value):
+            raise ConfigError(f"{where}: expected a list of names, got {value!r}", where)
+        for i, v in enumerate(value):
+            if v not in key.choices:
+                hint = nearest(v, key.choices)
+                extra = f"; did you mean {hint!r}?" if hint else ""
+                raise ConfigError(
+                    f"{where}[{i}]: {v!r} is not an observable (choose from {', '.join(key.choices)}){extra}",
+                    f"{where}[{i}]",
+                )
+        return tuple(value)
+    raise AssertionError(k)  # pragma: no cover - declaration error
+
+
+def _section(raw, name: str, where: str) -> MappingProxyType:
+    decl = SECTIONS[name]
+    if not isinstance(raw, dict):
+        raise ConfigError(f"{where}: expected a table, got {raw!r}", where)
+    for key in raw:
+        if key not in decl:
+            hint = nearest(key, decl)
+            extra = f"; did you mean '{where}.{hint}'?" if hint else f"; valid keys: {', '.join(decl)}"
+            raise ConfigError(f"{where}.{key}: unknown key{extra}", f"{where}.{key}")
+    out = {}
+    for key, k in decl.items():
+        if key in raw:
+            out[key] = _check_value(raw[key], k, f"{where}.{key}")
+        elif k.required:
+            raise ConfigError(f"{where}.{key}: required key is missing ({k.doc})", f"{where}.{key}")
+        elif k.default is None:
+            out[key] = None
+        elif k.kind in ("length", "field") and isinstance(k.default, str):
+            out[key] = quantity(k.default, k.kind, f"{where}.{key}")
+        else:
+            out[key] = k.default
+    return MappingProxyType(out)
+
+
+@dataclass(frozen=True)
+class RunConfig:
+    """A checked config: one read-only mapping per section (SI units for quantities)."""
+
+    run: MappingProxyType
+    host: MappingProxyType
+    populations: tuple
+    arrangement: MappingProxyType
+    field: MappingProxyType
+    solver: MappingProxyType
+    output: MappingProxyType
+    text: str
+    source: str
+
+
+def parse_config(text: str, source: str = "<config>") -> RunConfig:
+    """Check TOML ``text`` and return a :class:`RunConfig`.
+
+    Raises
+    ------
+    ConfigError
+        Naming the dotted key, what was given and what is allowed.
+    """
+    try:
+        raw = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise ConfigError(f"{source}: not valid TOML ({exc})", "toml") from None
+    for top in raw:
+        if top not in SECTIONS:
+            hint = nearest(top, SECTIONS)
+            extra = f"; did you mean '{hint}'?" if hint else f"; valid sections: {', '.join(SECTIONS)}"
+            raise ConfigError(f"{top}: unknown section{extra}", top)
+    for name in _REQUIRED_SECTIONS:
+        if name not in raw:
+            label = "[[population]]" if name == "population" else f"[{name}]"
+            raise ConfigError(f"{name}: required section {label} is missing", name)
+    pops_raw = raw["population"]
+    if isinstance(pops_raw, dict):
+        pops_raw = [pops_raw]
+    if not isinstance(pops_raw, list) or not pops_raw:
+        raise ConfigError("population: expected one or more [[population]] tables", "population")
+    pops = tuple(_section(p, "population", f"population[{i}]") for i, p in enumerate(pops_raw))
+    for i, p in enumerate(pops):
+        need = {"sphere": ("radius",), "spheroid": ("polar", "equatorial"), "ellipsoid": ("semi_axes",)}[p["shape"]]
+        for key in need:
+            if p[key] is None:
+                raise ConfigError(
+                    f"population[{i}].{key}: required for shape = {p['shape']!r}", f"population[{i}].{key}"
+                )
+    if sum(p["fraction"] for p in pops) <= 0:
+        raise ConfigError("population[0].fraction: fractions must not all be zero", "population[0].fraction")
+    sections = {n: _section(raw.get(n, {}), n, n) for n in ("run", "host", "arrangement", "field", "solver", "output")}
+    arr = sections["arrangement"]
+    if arr["kind"] == "cubic":
+        for key in ("spacing", "cut_radius"):
+            if arr[key] is None:
+                raise ConfigError(f"arrangement.{key}: required for kind = 'cubic'", f"arrangement.{key}")
+    if arr["kind"] in ("cubic", "chain") and len(pops) > 1:
+        raise ConfigError(
+            f"population: kind = {arr['kind']!r} takes one population, got {len(pops)}", "population"
+        )
+    if arr["gap"] is not None and arr["gap"] < 0:
+        raise ConfigError("arrangement.gap: must be >= 0", "arrangement.gap")
+    if sections["solver"]["rtol"] == 0 and sections["solver"]["atol"] == 0:
+        raise ConfigError("solver.rtol: rtol and atol cannot both be zero", "solver.rtol")
+    return RunConfig(populations=pops, text=text, source=source, **sections)
+
+
+def load_config(path) -> RunConfig:
+    """Read and check a TOML config file."""
+    p = Path(path)
+    if not p.is_file():
+        raise ConfigError(f"config: no such file {p}", "config")
+    return parse_config(p.read_text(encoding="utf-8"), source=str(p))
+
+
+def config_markdown() -> str:
+    """Render :data:`SECTIONS` as the reference table of ``docs/config.md``."""
+    lines = [
+        "# Config reference",
+        "",
+        "Generated from `dipolearray/config/_schema.py` (`tests/config/test_config.py` checks",
+        "that this page matches). Lengths and fields are strings with an explicit unit",
+        "(`'0.5 um'`, `'20 nm'`, `'1 kV/mm'`, `'2 V/um'`); permittivities are relative and",
+        "follow `eps = eps' - j eps''` with `eps_loss = eps'' >= 0`.",
+        "",
+    ]
+    for name, decl in SECTIONS.items():
+        head = f"[[{name}]]" if name in _LIST_SECTIONS else f"[{name}]"
+        lines += [f"## `{head}`", "", "| key | kind | default | allowed | meaning |", "|---|---|---|---|---|"]
+        for key, k in decl.items():
+            if k.required:
+                default = "required"
+            elif k.default is None:
+                default = "-"
+            else:
+                default = f"`{k.default!r}`"
+            allowed = []
+            if k.choices:
+                allowed.append(", ".join(f"`{c}`" for c in k.choices))
+            if k.minimum is not None:
+                allowed.append(f">= {k.minimum:g}")
+            if k.maximum is not None:
+                allowed.append(f"<= {k.maximum:g}")
+            unit = {"length": "length", "field": "field", "length3": "3 lengths"}.get(k.kind, k.kind)
+            lines.append(f"| `{key}` | {unit} | {default} | {'; '.join(allowed)} | {k.doc} |")
+        lines.append("")
+    return "\n".join(lines)

@@ -1,0 +1,52 @@
+"""Observables: pure functions of a :class:`~dipolearray.solve.Solution`.
+
+All values are in reduced units (lengths in the reference length, fields in
+``|E0|``, moments in ``4 pi eps0 eps_h l^3 |E0|``, forces in
+``4 pi eps0 eps_h l^2 |E0|^2``, energies and torques in ``4 pi eps0 eps_h l^3 |E0|^2``).
+The last axis ``K`` runs over the scene's applied field vectors.
+
+For complex permittivities the moments and fields are phasors of a time-harmonic
+field with peak amplitude ``E0`` (``eps = eps' - 1j eps''``); forces, torques and
+energies are then cycle averages (``1/2 Re`` of the product with the complex
+conjugate). For real permittivities they are the static values.
+
+Public names
+------------
+local_field
+    Exciting field at each body centre, ``E0 + sum_{j != i} T_ij p_j``.
+interior_field
+    Uniform field inside each ellipsoid (point-dipole model).
+field_at
+    Field at arbitrary points (interior field for points inside a body).
+total_moment
+    Sum of all moments.
+effective_permittivity
+    Effective permittivity of a spherical sample from its total moment.
+EffectivePermittivity
+    Its result record.
+energy
+    Electrostatic energy at fixed applied field, ``-1/2 sum p . E0``.
+forces, torques
+    Force on every body, torque on every body.
+OBSERVABLES
+    Registry of names, shapes, unit kinds and descriptions (store, config, CLI).
+"""
+
+from ._effective import EffectivePermittivity, effective_permittivity
+from ._fields import field_at, interior_field, local_field, total_moment
+from ._mechanics import energy, forces, torques
+from ._registry import OBSERVABLES, Observable
+
+__all__ = [
+    "local_field",
+    "interior_field",
+    "field_at",
+    "total_moment",
+    "effective_permittivity",
+    "EffectivePermittivity",
+    "energy",
+    "forces",
+    "torques",
+    "OBSERVABLES",
+    "Observable",
+]

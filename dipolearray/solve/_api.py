@@ -1,0 +1,174 @@
+from __future__ import annotations
+
+import time
+
+import numpy as np
+
+from .._validate import as_float_array, as_int, as_positive, check_choice
+from ..errors import InputError
+from ._common import MomentSystem, column_norms
+from ._direct import direct
+from ._fixed_point import fixed_point
+from ._krylov import cocg, gmres
+from ._solution import Solution
+
+METHODS = ("auto", "fixed_point", "cocg", "gmres", "direct")
+
+#: ``auto`` factors the dense matrix up to this many bodies (3N = 3000 unknowns).
+AUTO_DIRECT_MAX_BODIES = 1000
+
+
+def solve(
+    scene,
+    method: str = "auto",
+    *,
+    rtol: float = 1e-8,
+    atol: float = 0.0,
+    maxiter: int = 1000,
+    x0=None,
+    callback=None,
+    relaxation: float = 1.0,
+    backend: str = "auto",
+    operator=None,
+) -> Solution:
+    """Find the self-consistent moments of every body of ``scene``.
+
+    Parameters
+    ----------
+    scene : Scene
+        The system; all its applied field vectors are solved together.
+    method : {"auto", "fixed_point", "cocg", "gmres", "direct"}
+        See the module docstring.
+    rtol, atol : float
+        Stop when ``||b_k - M p_k|| <= max(rtol ||b_k||, atol)`` for every
+        right-hand side k (``M = I - alpha T``, ``b = alpha E0``).
+    maxiter : int
+        Iteration limit (per right-hand side for GMRES).
+    x0 : (N, 3, K) array_like, optional
+        Starting moments; default the isolated response ``alpha E0``.
+    callback : callable, optional
+        ``callback(iteration, residual)`` after every iteration, ``residual`` the
+        ``(K,)`` relative residuals (GMRES: ``(1,)`` for the current right-hand side).
+    relaxation : float
+        Relaxation ``w`` of the fixed-point iteration, ``0 < w <= 2``.
+    backend : str
+        Interaction operator backend (see :func:`dipolearray.operators.make_operator`).
+    operator : InteractionOperator, optional
+        A prebuilt operator for this scene (overrides ``backend``).
+
+    Returns
+    -------
+    Solution
+        Not converging is a result (``converged=False`` with a ``reason``); call
+        :meth:`Solution.check` to raise instead.
+
+    Examples
+    --------
+    >>> from dipolearray import Material, Population, Scene, Sphere
+    >>> s = Scene([[0, 0, 0], [0, 0, 2.2]], Population(Sphere(1.0), Material(10.0)))
+    >>> sol = solve(s, rtol=1e-10)
+    >>> sol.converged, sol.method
+    (True, 'direct')
+    """
+    check_choice(method, "method", METHODS)
+    rtol = as_positive(rtol, "rtol", allow_zero=True)
+    atol = as_positive(atol, "atol", allow_zero=True)
+    if rtol == 0 and atol == 0:
+        raise InputError("rtol: rtol and atol cannot both be zero", "rtol")
+    maxiter = as_int(maxiter, "maxiter", minimum=1)
+    relaxation = as_positive(relaxation, "relaxation")
+    if relaxation > 2.0:
+        raise InputError(f"relaxation: expected 0 < w <= 2, got {relaxation}", "relaxation")
+    if callback is not None and not callable(callback):
+        raise InputError("callback: expected a callable or None", "callback")
+
+    t0 = time.perf_counter()
+    system = MomentSystem(scene, operator if operator is not None else _make_op(scene, backend))
+    n, k = scene.n_bodies, system.n_rhs
+    if x0 is None:
+        start = system.b.copy()
+    else:
+        start = as_float_array(x0, "x0", allow_complex=True)
+        if start.shape == (n, 3) and k == 1:
+            start = start[:, :, None]
+        if start.shape != (n, 3, k):
+            raise InputError(f"x0: expected shape ({n}, 3, {k}), got {start.shape}", "x0")
+        start = start.astype(system.dtype) if system.dtype.kind == "c" else start.real
+
+    chosen, why = _choose(method, scene)
+    spectral = None
+    extra = {}
+    if chosen == "direct":
+        p, reason = direct(system)
+        iterations = 0
+        history = None
+    elif chosen == "fixed_point":
+        p, history, iterations, reason, spectral = fixed_point(
+            system, rtol=rtol, atol=atol, maxiter=maxiter, x0=start, callback=callback,
+            relaxation=relaxation,
+        )
+    elif chosen == "cocg":
+        p, history, iterations, reason = cocg(
+            system, rtol=rtol, atol=atol, maxiter=maxiter, x0=start, callback=callback
+        )
+        if reason != "converged" and method == "auto":
+            extra["cocg_reason"] = reason
+            why += f"; COCG stopped ({reason}) after {iterations} iterations, continued with GMRES"
+            p2, h2, it2, reason = gmres(
+                system, rtol=rtol, atol=atol, maxiter=maxiter, x0=p, callback=callback
+            )
+            history = np.concatenate([history, h2])
+            iterations += it2
+            p = p2
+            chosen = "cocg+gmres"
+    else:
+        p, history, iterations, reason = gmres(
+            system, rtol=rtol, atol=atol, maxiter=maxiter, x0=start, callback=callback
+        )
+
+    true_norm = column_norms(system.residual(p))
+    residual = system.relative(true_norm)
+    ok = bool(np.all(true_norm <= system.tolerance(rtol, atol)))
+    if chosen == "direct":
+        reason = "converged" if ok else (reason if reason.startswith("singular") else "inaccurate")
+        initial = system.relative(column_norms(system.residual(start)))
+        history = np.stack([initial, residual])
+    elif ok:
+        reason = "converged"
+    elif reason == "converged":
+        reason = "inaccurate"
+    return Solution(
+        scene=scene,
+        moments=np.asarray(p, dtype=system.dtype),
+        converged=ok,
+        reason=reason,
+        method=chosen,
+        method_reason=why,
+        backend=system.op.backend,
+        iterations=int(iterations),
+        n_applies=int(system.op.n_applies),
+        residual_history=np.asarray(history, dtype=float),
+        residual=residual,
+        spectral_radius=spectral,
+        wall_s=time.perf_counter() - t0,
+        rtol=rtol,
+        atol=atol,
+        extra=extra,
+    )
+
+
+def _make_op(scene, backend):
+    from ..operators import make_operator
+
+    return make_operator(scene, backend)
+
+
+def _choose(method, scene):
+    if method != "auto":
+        return method, "requested"
+    n = scene.n_bodies
+    if n <= AUTO_DIRECT_MAX_BODIES:
+        return "direct", f"auto: N = {n} <= {AUTO_DIRECT_MAX_BODIES}, dense LU is exact and fast"
+    return "cocg", (
+        f"auto: N = {n} > {AUTO_DIRECT_MAX_BODIES}, matrix-free COCG on the symmetrised system"
+    )

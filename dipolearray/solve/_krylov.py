@@ -1,0 +1,150 @@
+from __future__ import annotations
+
+import numpy as np
+
+from ._common import block_apply, column_norms
+
+
+def _bilinear(x, y):
+    """Unconjugated per-column product ``sum x * y`` -> (K,)."""
+    return np.einsum("nck,nck->k", x, y)
+
+
+def cocg(system, *, rtol, atol, maxiter, x0, callback, max_restarts=3):
+    """COCG on the symmetrised moment equations, all right-hand sides batched.
+
+    Returns ``(p, history, iterations, reason)``. The monitored residual is mapped
+    back to the unsymmetrised one, ``r = alpha^1/2 r_sym``, so the stopping test is
+    the common criterion; the true residual is recomputed at the end and a restart
+    from the current iterate follows if the recurrence has drifted.
+
+    References
+    ----------
+    van der Vorst, H. A. and Melissen, J. B. M. (1990). A Petrov-Galerkin type method
+    for solving Ax = b, where A is symmetric complex. IEEE Trans. Magn. 26, 706.
+    """
+    scene = system.scene
+    half = np.asarray(scene.polarizability_sqrt)
+    work = np.complex128 if (np.iscomplexobj(half) or system.dtype.kind == "c") else np.float64
+    half = half.astype(work)
+    c = block_apply(half, system.e0.astype(work))
+    tol = system.tolerance(rtol, atol)
+    history = []
+    it = 0
+    reason = "maxiter"
+
+    def sym_apply(q):
+        return q - block_apply(half, system.op.apply(block_apply(half, q)))
+
+    # q0 with alpha^1/2 q0 = x0: x0 defaults to the isolated response alpha E0 = alpha^1/2 c.
+    q = _initial_q(system, half, x0, c)
+    p = None
+    for _restart in range(max_restarts + 1):
+        r = c - sym_apply(q)
+        rn = column_norms(block_apply(half, r))
+        history.append(system.relative(rn))
+        d = r.copy()
+        rho = _bilinear(r, r)
+        while not np.all(rn <= tol) and it < maxiter:
+            active = rn > tol
+            w = sym_apply(d)
+            mu = _bilinear(d, w)
+            scale_ok = np.abs(mu) > 1e-300
+            if np.any(active & ~scale_ok):
+                reason = "breakdown"
+                break
+            a = np.where(active & scale_ok, rho / np.where(scale_ok, mu, 1.0), 0.0)
+            q = q + a * d
+            r = r - a * w
+            rho_new = _bilinear(r, r)
+            beta = np.where(active & (np.abs(rho) > 0), rho_new / np.where(rho != 0, rho, 1.0), 0.0)
+            d = r + beta * d
+            rho = rho_new
+            it += 1
+            rn = column_norms(block_apply(half, r))
+            history.append(system.relative(rn))
+            if callback is not None:
+                callback(it, history[-1])
+            if not np.all(np.isfinite(rn)):
+                reason = "breakdown"
+                break
+        p = block_apply(half, q)
+        if system.dtype.kind == "f":
+            p = p.real.astype(np.float64)
+        true = column_norms(system.residual(p))
+        history.append(system.relative(true))
+        if np.all(true <= tol):
+            reason = "converged"
+            break
+        if reason == "breakdown" or it >= maxiter:
+            break
+    return p, np.array(history), it, reason
+
+
+def _initial_q(system, half, x0, c):
+    default = np.allclose(x0, system.b)
+    if default:
+        return c.copy()
+    # General start: solve alpha^1/2 q = x0 body by body (singular blocks: least squares).
+    q = np.empty_like(c)
+    for i in range(x0.shape[0]):
+        q[i] = np.linalg.lstsq(half[i], x0[i].astype(c.dtype), rcond=None)[0]
+    return q
+
+
+def gmres(system, *, rtol, atol, maxiter, x0, callback, restart=60):
+    """Restarted GMRES (SciPy) on ``M p = b``, one right-hand side at a time."""
+    from scipy.sparse.linalg import LinearOperator
+    from scipy.sparse.linalg import gmres as scipy_gmres
+
+    n = system.scene.n_bodies
+    size = 3 * n
+    dt = system.dtype
+
+    def matvec(v):
+        x = v.reshape(n, 3, 1).astype(dt, copy=False)
+        return (x - system.coupling(x)).reshape(-1)
+
+    M = LinearOperator((size, size), matvec=matvec, dtype=dt)
+    p = np.array(x0, dtype=dt, copy=True)
+    tol = system.tolerance(rtol, atol)
+    hist_cols = []
+    total_it = 0
+    reason = "converged"
+    for k in range(system.n_rhs):
+        col = [float(system.relative(column_norms(system.residual(p[:, :, k : k + 1])))[0])]
+        bk = system.b[:, :, k].reshape(-1)
+
+        def cb(pr_norm, col=col):
+            col.append(float(pr_norm))
+            if callback is not None:
+                callback(len(col) - 1, np.array([pr_norm]))
+
+        bnorm = max(float(system.b_norm[k]), 1e-300)
+        sol, info = scipy_gmres(
+            M,
+            bk,
+            x0=p[:, :, k].reshape(-1),
+            rtol=float(tol[k] / bnorm),
+            atol=0.0,
+            restart=min(restart, size),
+            maxiter=max(1, maxiter // max(1, min(restart, size)) + 1),
+            callback=cb,
+            callback_type="pr_norm",
+        )
+        p[:, :, k] = sol.reshape(n, 3)
+        total_it += len(col) - 1
+        hist_cols.append(col)
+        if info != 0:
+            reason = "maxiter" if info > 0 else "breakdown"
+    true = system.relative(column_norms(system.residual(p)))
+    length = max(len(c) for c in hist_cols) + 1
+    history = np.full((length, system.n_rhs), np.nan)
+    for k, col in enumerate(hist_cols):
+        history[: len(col), k] = col
+        history[len(col) :, k] = true[k]
+    if np.all(true * system.b_norm <= tol):
+        reason = "converged"
+    elif reason == "converged":
+        reason = "maxiter"
+    return p, history, total_it, reason

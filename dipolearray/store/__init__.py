@@ -1,0 +1,38 @@
+"""Store: results in HDF5, one file per solve, readable with plain h5py.
+
+The layout is declared once in :data:`SCHEMA` (groups, datasets, attributes, dtypes,
+shapes, units); the writer, the reader, ``docs/schema.md`` and the schema test all
+read that declaration. Writes are atomic: the file is written under a temporary name
+in the target folder and renamed into place only when complete, so a failed write
+never leaves a half-written result and never replaces an existing file unless asked.
+
+Values are stored in the engine's reduced units; every dataset carries ``unit`` (the
+reduced unit), ``si_unit`` and, when the scene knows its SI length and field
+strength, ``si_factor`` (multiply to get SI).
+
+Public names
+------------
+save_result
+    Write a :class:`~dipolearray.solve.Solution` (plus observables, config text).
+load_result
+    Read it back as the same :class:`~dipolearray.solve.Solution`.
+read_observables, read_config_text, describe
+    Read the stored observables, the config text, or a text summary of a file.
+SCHEMA, SCHEMA_VERSION, schema_markdown
+    The layout declaration and its rendering for the docs.
+"""
+
+from ._hdf5 import describe, load_result, read_config_text, read_observables, save_result
+from ._schema import FORMAT_NAME, SCHEMA, SCHEMA_VERSION, schema_markdown
+
+__all__ = [
+    "save_result",
+    "load_result",
+    "read_observables",
+    "read_config_text",
+    "describe",
+    "SCHEMA",
+    "SCHEMA_VERSION",
+    "FORMAT_NAME",
+    "schema_markdown",
+]

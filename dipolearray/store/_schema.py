@@ -1,0 +1,130 @@
+"""The single declaration of the HDF5 result layout."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+FORMAT_NAME = "dipolearray.result"
+SCHEMA_VERSION = 1
+
+
+@dataclass(frozen=True)
+class Entry:
+    """One group, dataset or attribute of the layout."""
+
+    path: str
+    kind: str  # "group", "dataset" or "attr" (path "group@name")
+    dtype: str
+    shape: str
+    unit: str
+    description: str
+    required: bool = True
+
+
+SCHEMA = (
+    Entry("/", "group", "", "", "", "file root"),
+    Entry("/@format", "attr", "str", "", "", f"always {FORMAT_NAME!r}"),
+    Entry("/@schema_version", "attr", "int", "", "", "layout version; readers reject newer ones"),
+    Entry("/@package_version", "attr", "str", "", "", "dipolearray version that wrote the file"),
+    Entry("/@created_utc", "attr", "str", "", "", "ISO 8601 time of writing"),
+    Entry(
+        "/@convention",
+        "attr",
+        "str",
+        "",
+        "",
+        "permittivity sign convention and unit system (text)",
+    ),
+    Entry("/scene", "group", "", "", "", "the solved scene"),
+    Entry("/scene@boundary", "attr", "str", "", "", "'open'"),
+    Entry("/scene@host_name", "attr", "str", "", "", "host material label"),
+    Entry("/scene@eps_host", "attr", "complex128", "", "1", "host relative permittivity"),
+    Entry("/scene@sample_radius", "attr", "float64", "", "length", "sample radius (NaN if unset)"),
+    Entry("/scene@length_unit_m", "attr", "float64", "", "m", "SI value of the reduced length (NaN if unset)"),
+    Entry("/scene@field_V_per_m", "attr", "float64", "", "V/m", "applied field strength (NaN if unset)"),
+    Entry("/scene/positions", "dataset", "float64", "(N, 3)", "length", "body centres"),
+    Entry("/scene/population_index", "dataset", "int64", "(N,)", "1", "population of each body"),
+    Entry("/scene/scale", "dataset", "float64", "(N,)", "1", "size multiplier of each body"),
+    Entry("/scene/rotations", "dataset", "float64", "(N, 3, 3)", "1", "body axes (columns) in lab frame"),
+    Entry("/scene/field", "dataset", "float64", "(K, 3)", "field", "applied field vectors"),
+    Entry("/scene/populations", "group", "", "", "", "one subgroup '0', '1', ... per population"),
+    Entry("/scene/populations/<i>@name", "attr", "str", "", "", "population label"),
+    Entry("/scene/populations/<i>@shape", "attr", "str", "", "", "'sphere', 'spheroid' or 'ellipsoid'"),
+    Entry("/scene/populations/<i>@semi_axes", "attr", "float64", "(3,)", "length", "reference semi-axes"),
+    Entry("/scene/populations/<i>@material_name", "attr", "str", "", "", "material label"),
+    Entry("/scene/populations/<i>@eps", "attr", "complex128", "", "1", "inclusion relative permittivity"),
+    Entry("/solution", "group", "", "", "", "the solver record"),
+    Entry("/solution@converged", "attr", "bool", "", "", "every right-hand side met the tolerance"),
+    Entry("/solution@reason", "attr", "str", "", "", "why the solver stopped"),
+    Entry("/solution@method", "attr", "str", "", "", "method used"),
+    Entry("/solution@method_reason", "attr", "str", "", "", "why it was used"),
+    Entry("/solution@backend", "attr", "str", "", "", "interaction operator backend"),
+    Entry("/solution@iterations", "attr", "int", "", "", "iterations performed"),
+    Entry("/solution@n_applies", "attr", "int", "", "", "single right-hand-side operator applies"),
+    Entry("/solution@spectral_radius", "attr", "float64", "", "1", "fixed-point spectral radius estimate (NaN if none)"),
+    Entry("/solution@wall_s", "attr", "float64", "", "s", "wall time of the solve"),
+    Entry("/solution@rtol", "attr", "float64", "", "1", "relative tolerance asked for"),
+    Entry("/solution@atol", "attr", "float64", "", "1", "absolute tolerance asked for"),
+    Entry("/solution/moments", "dataset", "float64 or complex128", "(N, 3, K)", "moment", "self-consistent dipole moments"),
+    Entry("/solution/residual_history", "dataset", "float64", "(n, K)", "1", "relative residual per iteration"),
+    Entry("/solution/residual", "dataset", "float64", "(K,)", "1", "true final relative residual"),
+    Entry("/observables", "group", "", "", "", "observables asked for, one dataset each (see OBSERVABLES)"),
+    Entry("/config", "dataset", "str", "()", "", "text of the config that produced the run", required=False),
+)
+
+#: Attributes every dataset carrying a physical quantity has.
+DATASET_UNIT_ATTRS = ("unit", "si_unit", "si_factor")
+
+REDUCED_UNITS = {
+    "1": "1",
+    "dimensionless": "1",
+    "length": "reference length l",
+    "field": "|E0|",
+    "moment": "4 pi eps0 eps_h l^3 |E0|",
+    "force": "4 pi eps0 eps_h' l^2 |E0|^2",
+    "energy": "4 pi eps0 eps_h' l^3 |E0|^2",
+    "torque": "4 pi eps0 eps_h' l^3 |E0|^2",
+}
+
+CONVENTION = (
+    "relative permittivity eps = eps' - 1j*eps'' with eps'' >= 0 for loss (exp(+j omega t)); "
+    "values in reduced units: lengths in l (scene@length_unit_m), fields in |E0| "
+    "(scene@field_V_per_m), moments in 4 pi eps0 eps_h l^3 |E0|; each dataset's si_factor "
+    "converts to SI; complex moments are phasors of peak amplitude, forces/torques/energies "
+    "then cycle averages"
+)
+
+
+def schema_markdown() -> str:
+    """Render :data:`SCHEMA` as the Markdown table in ``docs/schema.md``."""
+    lines = [
+        f"# HDF5 result layout (format `{FORMAT_NAME}`, schema version {SCHEMA_VERSION})",
+        "",
+        "Generated from `dipolearray/store/_schema.py`; `tests/store/test_schema.py` checks",
+        "that this page matches it. Read a file with plain h5py:",
+        "",
+        "```python",
+        "import h5py",
+        "with h5py.File('runs/film-demo.h5') as f:",
+        "    p = f['solution/moments'][...]            # (N, 3, K), reduced units",
+        "    p_si = p * f['solution/moments'].attrs['si_factor']  # C m",
+        "```",
+        "",
+        "Reduced units: " + "; ".join(f"`{k}` = {v}" for k, v in REDUCED_UNITS.items() if k != "1"),
+        "",
+        f"Convention: {CONVENTION}.",
+        "",
+        "Every dataset with a unit has attributes `unit` (reduced unit), `si_unit` and,",
+        "when the scene knows its SI length and field, `si_factor`. Arrays larger than",
+        "4096 elements are chunked along the body axis and gzip-compressed.",
+        "",
+        "| path | kind | dtype | shape | unit | description |",
+        "|---|---|---|---|---|---|",
+    ]
+    for e in SCHEMA:
+        req = "" if e.required else " (optional)"
+        lines.append(
+            f"| `{e.path}` | {e.kind} | {e.dtype} | {e.shape} | {e.unit} | {e.description}{req} |"
+        )
+    lines.append("")
+    return "\n".join(lines)
