@@ -151,7 +151,7 @@ def run_config(cfg, *, output=None, overwrite=False, callback=None, save=True, s
         The path is ``None`` when nothing was written (``save=False``, or the solve
         did not converge and ``save_unconverged`` is off).
     """
-    from ..solve import solve
+    from ..solvers import solve
     from ..store import save_result
 
     path = output_path(cfg, output)

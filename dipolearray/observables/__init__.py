@@ -1,4 +1,4 @@
-"""Observables: pure functions of a :class:`~dipolearray.solve.Solution`.
+"""Observables: pure functions of a :class:`~dipolearray.solvers.Solution`.
 
 All values are in reduced units (lengths in the reference length, fields in
 ``|E0|``, moments in ``4 pi eps0 eps_h l^3 |E0|``, forces in

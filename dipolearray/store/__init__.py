@@ -13,9 +13,9 @@ strength, ``si_factor`` (multiply to get SI).
 Public names
 ------------
 save_result
-    Write a :class:`~dipolearray.solve.Solution` (plus observables, config text).
+    Write a :class:`~dipolearray.solvers.Solution` (plus observables, config text).
 load_result
-    Read it back as the same :class:`~dipolearray.solve.Solution`.
+    Read it back as the same :class:`~dipolearray.solvers.Solution`.
 read_observables, read_config_text, describe
     Read the stored observables, the config text, or a text summary of a file.
 SCHEMA, SCHEMA_VERSION, schema_markdown

@@ -190,7 +190,7 @@ def _str(v):
 
 
 def load_result(path):
-    """Read a result file back into a :class:`~dipolearray.solve.Solution`.
+    """Read a result file back into a :class:`~dipolearray.solvers.Solution`.
 
     Raises
     ------
@@ -200,7 +200,7 @@ def load_result(path):
     from ..materials import Material
     from ..scene import Population, Scene
     from ..shapes import Ellipsoid, Sphere, Spheroid
-    from ..solve import Solution
+    from ..solvers import Solution
 
     with _open(path) as f:
         try:

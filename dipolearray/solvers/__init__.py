@@ -1,4 +1,4 @@
-"""Solve: self-consistent moments of all bodies.
+"""Solvers: self-consistent moments of all bodies.
 
 The moment equations ``p_i = alpha_i (E0 + sum_{j != i} T_ij p_j)`` are written as
 ``M p = b`` with ``M = I - alpha T`` and ``b = alpha E0`` (``alpha`` the block
