@@ -53,7 +53,9 @@ def as_float_array(value, key: str, shape=None, *, allow_complex=False, finite=T
     else:
         arr = arr.astype(np.float64)
     if shape is not None:
-        ok = arr.ndim == len(shape) and all(s is None or s == n for s, n in zip(shape, arr.shape))
+        ok = arr.ndim == len(shape) and all(
+            s is None or s == n for s, n in zip(shape, arr.shape, strict=True)
+        )
         if not ok:
             want = "(" + ", ".join("N" if s is None else str(s) for s in shape) + ")"
             raise InputError(f"{key}: expected shape {want}, got {arr.shape}", key)

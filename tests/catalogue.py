@@ -33,9 +33,7 @@ CATALOGUE = {
     "pair_across_field": lambda: sphere_scene([[0, 0, 0], [2.3, 0, 0]]),
     "chain": lambda: sphere_scene(chain(15, 2.1).positions, eps=30.0),
     "cubic_cut": lambda: sphere_scene(cubic_lattice_sphere(2.5, 7.5).positions),
-    "dilute_random": lambda: sphere_scene(
-        random_sequential_addition(120, 0.05, rng=1).positions, eps=8.0
-    ),
+    "dilute_random": lambda: sphere_scene(random_sequential_addition(120, 0.05, rng=1).positions, eps=8.0),
     "complex_permittivity": lambda: sphere_scene(
         random_sequential_addition(80, 0.1, rng=2).positions, eps=12.0 - 3.0j, eps_host=2.0
     ),

@@ -157,8 +157,18 @@ def random_sequential_addition(
     ncell = max(1, int(math.ceil(2.0 * half / cell)))
     grid: dict[tuple, list] = {}
     pos = np.empty((n, 3))
-    order = np.argsort(-r, kind="stable")
-    for idx in order:
+
+    def clear(c, ri, key):
+        for dx in (-1, 0, 1):
+            for dy in (-1, 0, 1):
+                for dz in (-1, 0, 1):
+                    for j in grid.get((key[0] + dx, key[1] + dy, key[2] + dz), ()):
+                        dv = c - pos[j]
+                        if dv @ dv < (ri + r[j]) ** 2:
+                            return False
+        return True
+
+    for placed, idx in enumerate(np.argsort(-r, kind="stable")):
         ri = r[idx]
         lim = half - ri
         if lim <= 0:
@@ -168,29 +178,14 @@ def random_sequential_addition(
             if region == "sphere" and c @ c > lim * lim:
                 continue
             key = tuple(np.minimum(((c + half) / cell).astype(int), ncell - 1))
-            ok = True
-            for dx in (-1, 0, 1):
-                for dy in (-1, 0, 1):
-                    for dz in (-1, 0, 1):
-                        for j in grid.get((key[0] + dx, key[1] + dy, key[2] + dz), ()):
-                            dv = c - pos[j]
-                            if dv @ dv < (ri + r[j]) ** 2:
-                                ok = False
-                                break
-                        if not ok:
-                            break
-                    if not ok:
-                        break
-                if not ok:
-                    break
-            if ok:
+            if clear(c, ri, key):
                 pos[idx] = c
                 grid.setdefault(key, []).append(idx)
                 break
         else:
             raise InputError(
-                f"volume_fraction: could not place body {len(grid and sum(map(len, grid.values())))} of {n} "
-                f"after {max_attempts} attempts at fraction {phi}; lower it",
+                f"volume_fraction: placed {placed} of {n} bodies, then {max_attempts} attempts "
+                f"failed at fraction {phi}; lower the fraction",
                 "volume_fraction",
             )
     desc = f"random sequential addition, {n} bodies, fraction {phi:g}, {region}"

@@ -13,7 +13,9 @@ from __future__ import annotations
 def add_arguments(p):
     """Arguments of ``check``."""
     p.add_argument("config", help="TOML run description")
-    p.add_argument("--no-build", action="store_true", help="check keys and units only, do not build the scene")
+    p.add_argument(
+        "--no-build", action="store_true", help="check keys and units only, do not build the scene"
+    )
 
 
 def run(args) -> int:
@@ -25,6 +27,8 @@ def run(args) -> int:
         print(f"{args.config}: keys and units valid")
         return 0
     scene = build_scene(cfg)
-    print(f"{args.config}: valid; {scene.n_bodies} bodies, {scene.n_fields} field direction(s), "
-          f"host eps {scene.eps_host}, reference length {scene.length_unit_m:.4g} m")
+    print(
+        f"{args.config}: valid; {scene.n_bodies} bodies, {scene.n_fields} field direction(s), "
+        f"host eps {scene.eps_host}, reference length {scene.length_unit_m:.4g} m"
+    )
     return 0

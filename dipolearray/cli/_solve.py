@@ -30,7 +30,9 @@ def add_arguments(p):
     p.add_argument("--quiet", action="store_true", help="no progress bar, no summary")
     p.add_argument("--json", action="store_true", help="print the summary as JSON")
     p.add_argument(
-        "--save-unconverged", action="store_true", help="write the result even when the solve did not converge"
+        "--save-unconverged",
+        action="store_true",
+        help="write the result even when the solve did not converge",
     )
 
 

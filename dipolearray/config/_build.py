@@ -54,6 +54,8 @@ def _random_rotations(n, rng):
 def reference_length(cfg) -> float:
     """Reference length in metres: volume-equivalent radius of the first population."""
     a = _semi_axes_m(cfg.populations[0])
+    if a[0] == a[1] == a[2]:
+        return float(a[0])
     return float(np.prod(a)) ** (1.0 / 3.0)
 
 
@@ -86,10 +88,12 @@ def build_scene(cfg) -> Scene:
             # RSA packs bounding spheres; report the true sample radius for the bodies' volume.
             sample_radius = layout.sample_radius
             if sample_radius is not None:
-                body_volume = sum(c * pop.shape.volume for c, pop in zip(counts, pops))
+                body_volume = sum(c * pop.shape.volume for c, pop in zip(counts, pops, strict=True))
                 sample_radius = (3 * body_volume / (4 * math.pi * arr["volume_fraction"])) ** (1 / 3)
         elif arr["kind"] == "cubic":
-            layout = cubic_lattice_sphere(arr["spacing"] / length, arr["cut_radius"] / length, radius=bound[0])
+            layout = cubic_lattice_sphere(
+                arr["spacing"] / length, arr["cut_radius"] / length, radius=bound[0]
+            )
             index = np.zeros(layout.n_bodies, dtype=np.int64)
             sample_radius = layout.sample_radius
         else:

@@ -37,7 +37,9 @@ OBSERVABLE_NAMES = (
 SECTIONS = {
     "run": {
         "name": Key("str", "run", "label of the run, used in summaries"),
-        "output": Key("str", "", "HDF5 file to write (relative to the working folder); empty: runs/<name>.h5"),
+        "output": Key(
+            "str", "", "HDF5 file to write (relative to the working folder); empty: runs/<name>.h5"
+        ),
     },
     "host": {
         "name": Key("str", "host", "label of the host material"),
@@ -53,8 +55,12 @@ SECTIONS = {
         "semi_axes": Key("length3", _NO, "three semi-axes a, b, c (shape = ellipsoid)"),
         "eps": Key("float", _NO, "relative permittivity eps' of the inclusion", required=True),
         "eps_loss": Key("float", 0.0, "loss part eps'' >= 0", minimum=0.0),
-        "fraction": Key("float", 1.0, "share of the bodies in this population (normalised over populations)", minimum=0.0),
-        "orientation": Key("str", "aligned", "orientation of non-spherical bodies", choices=("aligned", "random")),
+        "fraction": Key(
+            "float", 1.0, "share of the bodies in this population (normalised over populations)", minimum=0.0
+        ),
+        "orientation": Key(
+            "str", "aligned", "orientation of non-spherical bodies", choices=("aligned", "random")
+        ),
         "axis": Key("vector", (0.0, 0.0, 1.0), "body z axis direction when aligned"),
     },
     "arrangement": {
@@ -64,7 +70,9 @@ SECTIONS = {
         "region": Key("str", "sphere", "sample shape (random)", choices=("sphere", "cube")),
         "seed": Key("int", 0, "random seed (random, and random orientations)", minimum=0),
         "spacing": Key("length", _NO, "lattice constant (cubic)", minimum=0.0),
-        "cut_radius": Key("length", _NO, "radius of the spherical sample cut from the lattice (cubic)", minimum=0.0),
+        "cut_radius": Key(
+            "length", _NO, "radius of the spherical sample cut from the lattice (cubic)", minimum=0.0
+        ),
         "gap": Key("length", "0 m", "surface-to-surface gap between neighbours (chain)"),
         "axis": Key("vector", (0.0, 0.0, 1.0), "chain direction (chain)"),
     },
@@ -109,9 +117,7 @@ def quantity(text, kind: str, where: str) -> float:
     unit, _dim = _UNITS[kind]
     example = "'0.5 um'" if kind == "length" else "'1 kV/mm'"
     if isinstance(text, bool) or isinstance(text, numbers.Number):
-        raise ConfigError(
-            f"{where}: give a unit with the number, e.g. {example} (got {text!r})", where
-        )
+        raise ConfigError(f"{where}: give a unit with the number, e.g. {example} (got {text!r})", where)
     if not isinstance(text, str):
         raise ConfigError(f"{where}: expected a quantity string like {example}, got {text!r}", where)
     import pint
@@ -120,7 +126,9 @@ def quantity(text, kind: str, where: str) -> float:
         q = _ureg().Quantity(text)
         value = float(q.to(unit).magnitude)
     except pint.errors.DimensionalityError:
-        raise ConfigError(f"{where}: {text!r} is not a {kind} (expected units like {example})", where) from None
+        raise ConfigError(
+            f"{where}: {text!r} is not a {kind} (expected units like {example})", where
+        ) from None
     except Exception:
         raise ConfigError(f"{where}: cannot read {text!r} as a quantity like {example}", where) from None
     if value != value or value in (float("inf"), float("-inf")):
@@ -167,7 +175,9 @@ def _check_value(value, key: Key, where: str):
         return v
     if k == "length3":
         if not isinstance(value, list) or len(value) != 3:
-            raise ConfigError(f"{where}: expected three lengths like ['1 um', '1 um', '2 um'], got {value!r}", where)
+            raise ConfigError(
+                f"{where}: expected three lengths like ['1 um', '1 um', '2 um'], got {value!r}", where
+            )
         out = tuple(quantity(v, "length", f"{where}[{i}]") for i, v in enumerate(value))
         if min(out) <= 0:
             raise ConfigError(f"{where}: semi-axes must be positive, got {value!r}", where)
@@ -183,8 +193,12 @@ def _check_value(value, key: Key, where: str):
         if value == "all":
             return "all"
         if isinstance(value, list) and value and all(isinstance(v, list) for v in value):
-            return tuple(_check_value(v, Key("vector", None, ""), f"{where}[{i}]") for i, v in enumerate(value))
-        raise ConfigError(f"{where}: expected 'all' or a list of vectors like [[0, 0, 1]], got {value!r}", where)
+            return tuple(
+                _check_value(v, Key("vector", None, ""), f"{where}[{i}]") for i, v in enumerate(value)
+            )
+        raise ConfigError(
+            f"{where}: expected 'all' or a list of vectors like [[0, 0, 1]], got {value!r}", where
+        )
     if k == "list[str]":
         if not isinstance(value, list) or not all(isinstance(v, str) for v in value):
             raise ConfigError(f"{where}: expected a list of names, got {value!r}", where)
@@ -267,7 +281,9 @@ def parse_config(text: str, source: str = "<config>") -> RunConfig:
         raise ConfigError("population: expected one or more [[population]] tables", "population")
     pops = tuple(_section(p, "population", f"population[{i}]") for i, p in enumerate(pops_raw))
     for i, p in enumerate(pops):
-        need = {"sphere": ("radius",), "spheroid": ("polar", "equatorial"), "ellipsoid": ("semi_axes",)}[p["shape"]]
+        need = {"sphere": ("radius",), "spheroid": ("polar", "equatorial"), "ellipsoid": ("semi_axes",)}[
+            p["shape"]
+        ]
         for key in need:
             if p[key] is None:
                 raise ConfigError(
@@ -275,7 +291,9 @@ def parse_config(text: str, source: str = "<config>") -> RunConfig:
                 )
     if sum(p["fraction"] for p in pops) <= 0:
         raise ConfigError("population[0].fraction: fractions must not all be zero", "population[0].fraction")
-    sections = {n: _section(raw.get(n, {}), n, n) for n in ("run", "host", "arrangement", "field", "solver", "output")}
+    sections = {
+        n: _section(raw.get(n, {}), n, n) for n in ("run", "host", "arrangement", "field", "solver", "output")
+    }
     arr = sections["arrangement"]
     if arr["kind"] == "cubic":
         for key in ("spacing", "cut_radius"):

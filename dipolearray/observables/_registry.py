@@ -1,7 +1,7 @@
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
-from typing import Callable
 
 from ._effective import effective_permittivity
 from ._fields import interior_field, local_field, total_moment

@@ -119,8 +119,7 @@ class InteractionOperator:
             x3 = x.reshape(n, m, shape[1])
         else:
             raise InputError(
-                f"moments: expected shape ({n}, {m}, K), ({n}, {m}), ({n * m},) or "
-                f"({n * m}, K), got {shape}",
+                f"moments: expected shape ({n}, {m}, K), ({n}, {m}), ({n * m},) or ({n * m}, K), got {shape}",
                 "moments",
             )
         if x.dtype.kind not in "fc":

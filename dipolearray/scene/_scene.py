@@ -42,9 +42,7 @@ class Population:
                 "shape",
             )
         if not isinstance(self.material, Material):
-            raise InputError(
-                f"material: expected a Material, got {type(self.material).__name__}", "material"
-            )
+            raise InputError(f"material: expected a Material, got {type(self.material).__name__}", "material")
 
 
 def _readonly(arr):

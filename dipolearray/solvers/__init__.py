@@ -43,7 +43,9 @@ Solution
     Frozen result record (moments, convergence, residual history, timing).
 estimate_spectral_radius
     Power-iteration estimate of the spectral radius of ``alpha T``.
-METHODS
+
+Methods
+-------
     Accepted method names.
 """
 

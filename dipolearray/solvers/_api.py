@@ -104,7 +104,12 @@ def solve(
         history = None
     elif chosen == "fixed_point":
         p, history, iterations, reason, spectral = fixed_point(
-            system, rtol=rtol, atol=atol, maxiter=maxiter, x0=start, callback=callback,
+            system,
+            rtol=rtol,
+            atol=atol,
+            maxiter=maxiter,
+            x0=start,
+            callback=callback,
             relaxation=relaxation,
         )
     elif chosen == "cocg":
@@ -169,6 +174,4 @@ def _choose(method, scene):
     n = scene.n_bodies
     if n <= AUTO_DIRECT_MAX_BODIES:
         return "direct", f"auto: N = {n} <= {AUTO_DIRECT_MAX_BODIES}, dense LU is exact and fast"
-    return "cocg", (
-        f"auto: N = {n} > {AUTO_DIRECT_MAX_BODIES}, matrix-free COCG on the symmetrised system"
-    )
+    return "cocg", (f"auto: N = {n} > {AUTO_DIRECT_MAX_BODIES}, matrix-free COCG on the symmetrised system")

@@ -110,7 +110,7 @@ def _write(tmp, sol, computed, config_text):
         f.attrs["format"] = FORMAT_NAME
         f.attrs["schema_version"] = SCHEMA_VERSION
         f.attrs["package_version"] = __version__
-        f.attrs["created_utc"] = _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds")
+        f.attrs["created_utc"] = _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds")
         f.attrs["convention"] = CONVENTION
         g = f.create_group("scene")
         g.attrs["boundary"] = scene.boundary
@@ -282,7 +282,8 @@ def describe(path) -> str:
         k = g["field"].shape[0]
         pops = g["populations"]
         names = ", ".join(
-            f"{_str(pops[i].attrs['name'])} ({_str(pops[i].attrs['shape'])}, eps {complex(pops[i].attrs['eps'])})"
+            f"{_str(pops[i].attrs['name'])} ({_str(pops[i].attrs['shape'])}, "
+            f"eps {complex(pops[i].attrs['eps'])})"
             for i in sorted(pops, key=int)
         )
         lines.append(f"scene: {n} bodies, {k} applied field(s), host eps {complex(g.attrs['eps_host'])}")

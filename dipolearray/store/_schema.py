@@ -40,7 +40,9 @@ SCHEMA = (
     Entry("/scene@host_name", "attr", "str", "", "", "host material label"),
     Entry("/scene@eps_host", "attr", "complex128", "", "1", "host relative permittivity"),
     Entry("/scene@sample_radius", "attr", "float64", "", "length", "sample radius (NaN if unset)"),
-    Entry("/scene@length_unit_m", "attr", "float64", "", "m", "SI value of the reduced length (NaN if unset)"),
+    Entry(
+        "/scene@length_unit_m", "attr", "float64", "", "m", "SI value of the reduced length (NaN if unset)"
+    ),
     Entry("/scene@field_V_per_m", "attr", "float64", "", "V/m", "applied field strength (NaN if unset)"),
     Entry("/scene/positions", "dataset", "float64", "(N, 3)", "length", "body centres"),
     Entry("/scene/population_index", "dataset", "int64", "(N,)", "1", "population of each body"),
@@ -61,12 +63,28 @@ SCHEMA = (
     Entry("/solution@backend", "attr", "str", "", "", "interaction operator backend"),
     Entry("/solution@iterations", "attr", "int", "", "", "iterations performed"),
     Entry("/solution@n_applies", "attr", "int", "", "", "single right-hand-side operator applies"),
-    Entry("/solution@spectral_radius", "attr", "float64", "", "1", "fixed-point spectral radius estimate (NaN if none)"),
+    Entry(
+        "/solution@spectral_radius",
+        "attr",
+        "float64",
+        "",
+        "1",
+        "fixed-point spectral radius estimate (NaN if none)",
+    ),
     Entry("/solution@wall_s", "attr", "float64", "", "s", "wall time of the solve"),
     Entry("/solution@rtol", "attr", "float64", "", "1", "relative tolerance asked for"),
     Entry("/solution@atol", "attr", "float64", "", "1", "absolute tolerance asked for"),
-    Entry("/solution/moments", "dataset", "float64 or complex128", "(N, 3, K)", "moment", "self-consistent dipole moments"),
-    Entry("/solution/residual_history", "dataset", "float64", "(n, K)", "1", "relative residual per iteration"),
+    Entry(
+        "/solution/moments",
+        "dataset",
+        "float64 or complex128",
+        "(N, 3, K)",
+        "moment",
+        "self-consistent dipole moments",
+    ),
+    Entry(
+        "/solution/residual_history", "dataset", "float64", "(n, K)", "1", "relative residual per iteration"
+    ),
     Entry("/solution/residual", "dataset", "float64", "(K,)", "1", "true final relative residual"),
     Entry("/observables", "group", "", "", "", "observables asked for, one dataset each (see OBSERVABLES)"),
     Entry("/config", "dataset", "str", "()", "", "text of the config that produced the run", required=False),
@@ -123,8 +141,6 @@ def schema_markdown() -> str:
     ]
     for e in SCHEMA:
         req = "" if e.required else " (optional)"
-        lines.append(
-            f"| `{e.path}` | {e.kind} | {e.dtype} | {e.shape} | {e.unit} | {e.description}{req} |"
-        )
+        lines.append(f"| `{e.path}` | {e.kind} | {e.dtype} | {e.shape} | {e.unit} | {e.description}{req} |")
     lines.append("")
     return "\n".join(lines)

@@ -32,7 +32,9 @@ def force_twin(pos, p):
             u = r / d
             for k in range(p.shape[2]):
                 a, b = p[i, :, k] @ u, p[j, :, k] @ u
-                out[i, :, k] += 3 / d**4 * (a * p[j, :, k] + b * p[i, :, k] + (p[i, :, k] @ p[j, :, k] - 5 * a * b) * u)
+                out[i, :, k] += (
+                    3 / d**4 * (a * p[j, :, k] + b * p[i, :, k] + (p[i, :, k] @ p[j, :, k] - 5 * a * b) * u)
+                )
     return out
 
 

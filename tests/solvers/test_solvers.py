@@ -1,11 +1,10 @@
 import numpy as np
 import pytest
+from catalogue import CATALOGUE, FIXED_POINT_DIVERGES, sphere_scene
 
 import dipolearray as da
 from dipolearray.errors import ConvergenceError
 from dipolearray.solvers import estimate_spectral_radius
-
-from catalogue import CATALOGUE, FIXED_POINT_DIVERGES, sphere_scene
 
 
 def true_residual(sol):

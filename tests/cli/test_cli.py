@@ -1,0 +1,86 @@
+import json
+
+import h5py
+import numpy as np
+
+from dipolearray.cli import EXIT_BAD_INPUT, EXIT_NOT_CONVERGED, EXIT_OK, EXIT_SCHEMA, main
+
+CFG = """
+[run]
+name = "cli-test"
+[host]
+eps = 2.5
+eps_loss = 0.01
+[[population]]
+radius = "100 nm"
+eps = 25.0
+[arrangement]
+n_bodies = 120
+volume_fraction = 0.1
+seed = 9
+[field]
+strength = "2 kV/mm"
+[solver]
+rtol = 1e-9
+"""
+
+
+def _write(tmp_path, text=CFG):
+    p = tmp_path / "run.toml"
+    p.write_text(text)
+    return p
+
+
+def test_solve_writes_result_and_summary(tmp_path, capsys):
+    cfg = _write(tmp_path)
+    out = tmp_path / "res.h5"
+    assert main(["solve", str(cfg), "--output", str(out)]) == EXIT_OK
+    text = capsys.readouterr().out
+    assert "effective permittivity" in text and "caution" in text
+    with h5py.File(out) as f:
+        assert f["solution/moments"].shape == (120, 3, 3)
+        assert "forces" in f["observables"]
+        assert "cli-test" in f["config"][()].decode()
+    # A second run refuses to clobber the result, --overwrite replaces it.
+    assert main(["solve", str(cfg), "--output", str(out), "--quiet"]) == EXIT_BAD_INPUT
+    assert "exists" in capsys.readouterr().err
+    assert main(["solve", str(cfg), "--output", str(out), "--json", "--overwrite"]) == EXIT_OK
+    info = json.loads(capsys.readouterr().out)
+    assert info["converged"] and info["n_bodies"] == 120
+    assert info["volume_fraction"] == np.round(0.1, 6)
+    assert main(["inspect", str(out), "--config"]) == EXIT_OK
+    shown = capsys.readouterr().out
+    assert "120 bodies" in shown and "[arrangement]" in shown
+
+
+def test_check_and_bad_input_exit_codes(tmp_path, capsys):
+    cfg = _write(tmp_path)
+    assert main(["check", str(cfg)]) == EXIT_OK
+    assert "120 bodies" in capsys.readouterr().out
+    bad = _write(tmp_path, CFG.replace("eps = 25.0", "epsilon = 25.0"))
+    assert main(["check", str(bad)]) == EXIT_BAD_INPUT
+    err = capsys.readouterr().err
+    assert "population[0].epsilon" in err and err.count("\n") == 1
+
+
+def test_not_converged_exit_code_and_no_file(tmp_path, capsys):
+    cfg = _write(tmp_path, CFG.replace("rtol = 1e-9", "rtol = 1e-12\nmethod = 'fixed_point'\nmaxiter = 2"))
+    out = tmp_path / "nc.h5"
+    assert main(["solve", str(cfg), "--output", str(out), "--quiet"]) == EXIT_NOT_CONVERGED
+    assert not out.exists()
+    assert "maxiter" in capsys.readouterr().err
+
+
+def test_inspect_rejects_foreign_file(tmp_path, capsys):
+    p = tmp_path / "x.h5"
+    with h5py.File(p, "w") as f:
+        f["a"] = 1
+    assert main(["inspect", str(p)]) == EXIT_SCHEMA
+    assert "not a dipolearray result" in capsys.readouterr().err
+
+
+def test_help_lists_commands(capsys):
+    assert main([]) == EXIT_BAD_INPUT
+    text = capsys.readouterr().out
+    for name in ("solve", "check", "inspect"):
+        assert name in text
