@@ -38,6 +38,9 @@ CATALOGUE = {
         random_sequential_addition(80, 0.1, rng=2).positions, eps=12.0 - 3.0j, eps_host=2.0
     ),
     "tilted_spheroids": _tilted_spheroids,
+    "low_permittivity_voids": lambda: sphere_scene(
+        random_sequential_addition(100, 0.15, rng=4).positions, eps=1.0, eps_host=4.0
+    ),
     "dense_high_contrast": _dense_high_contrast,
 }
 
