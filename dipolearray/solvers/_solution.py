@@ -32,7 +32,8 @@ class Solution:
     n_applies : int
         Single right-hand-side operator applies performed.
     residual_history : (n_records, K) ndarray of float
-        Relative residual ``||r_k|| / ||b_k||`` at each iteration (row 0: start).
+        Relative residual ``||r_k|| / ||b_k||`` at each iteration (row 0: start; Krylov
+        methods add a row with the recomputed true residual at the end of each cycle).
     residual : (K,) ndarray of float
         True relative residual of the returned moments.
     spectral_radius : float or None
