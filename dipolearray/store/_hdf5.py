@@ -294,7 +294,7 @@ def describe(path) -> str:
         s = f["solution"]
         state = "converged" if bool(s.attrs["converged"]) else f"NOT converged ({_str(s.attrs['reason'])})"
         lines.append(
-            f"solution: {_str(s.attrs['method'])} ({_str(s.attrs['backend'])}), {state}, "
+            f"solution: {_str(s.attrs['method'])} (backend {_str(s.attrs['backend'])}), {state}, "
             f"{int(s.attrs['iterations'])} iterations, max residual {float(np.max(s['residual'][...])):.2e}, "
             f"{float(s.attrs['wall_s']):.3g} s"
         )
