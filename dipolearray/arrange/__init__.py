@@ -14,8 +14,23 @@ chain
     Equally spaced bodies on a straight line.
 random_sequential_addition
     Non-overlapping random spheres in a spherical or cubic region (cell list).
+lattice, LATTICES, touching_fraction
+    sc, bcc, fcc, hcp and bct lattices by lattice constant or volume fraction, cut as a
+    sphere, cube or slab, or as a periodic box.
+chain_array
+    A square array of straight chains along an axis.
 """
 
 from ._generators import Arrangement, chain, cubic_lattice_sphere, random_sequential_addition
+from ._lattices import LATTICES, chain_array, lattice, touching_fraction
 
-__all__ = ["Arrangement", "cubic_lattice_sphere", "chain", "random_sequential_addition"]
+__all__ = [
+    "Arrangement",
+    "cubic_lattice_sphere",
+    "chain",
+    "random_sequential_addition",
+    "lattice",
+    "LATTICES",
+    "touching_fraction",
+    "chain_array",
+]

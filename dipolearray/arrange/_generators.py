@@ -21,12 +21,15 @@ class Arrangement:
     sample_radius : float or None
         Radius of the spherical sample the bodies fill.
     description : str
+    box : (3,) ndarray or None
+        Edges of the periodic box (periodic samples only).
     """
 
     positions: np.ndarray
     radii: np.ndarray
     sample_radius: float | None
     description: str
+    box: np.ndarray | None = None
 
     @property
     def n_bodies(self) -> int:
