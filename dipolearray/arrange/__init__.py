@@ -1,36 +1,81 @@
 """Arrange: pure geometry generators that feed a scene (no physics here).
 
-Each generator returns an :class:`Arrangement` (positions, per-body radius or size
-scale, and the radius of the spherical sample when there is one), seeded through a
-``numpy.random.Generator`` or an integer seed so results are reproducible.
+Each generator returns an :class:`Arrangement` (positions, per-body sizes, optional
+semi-axes, orientations and population labels, and the sample region), seeded
+through a ``numpy.random.Generator`` or an integer seed so results are reproducible.
+Every generator's output is free of overlaps by the same exact test the scene uses.
 
 Public names
 ------------
 Arrangement
-    Positions plus per-body sizes and the sample radius.
-cubic_lattice_sphere
-    Simple cubic lattice points cut as a sphere.
-chain
-    Equally spaced bodies on a straight line.
-random_sequential_addition
-    Non-overlapping random spheres in a spherical or cubic region (cell list).
-lattice, LATTICES, touching_fraction
+    Positions, sizes, orientations and the sample region.
+cubic_lattice_sphere, chain
+    A simple cubic lattice cut as a sphere; bodies on a straight line.
+lattice, LATTICES, touching_fraction, chain_array
     sc, bcc, fcc, hcp and bct lattices by lattice constant or volume fraction, cut as a
-    sphere, cube or slab, or as a periodic box.
-chain_array
-    A square array of straight chains along an axis.
+    sphere, cube or slab, or as a periodic box; square arrays of straight chains.
+random_sequential_addition, addition_kinetics
+    Random sequential addition of spheres, spheroids or ellipsoids (exact overlap test,
+    cell list) in a sphere, cube or periodic box; coverage against time.
+dense_packing, equilibrate
+    Dense random packings by overlap relaxation (to about 0.62 for equal spheres) and
+    hard-body Monte Carlo equilibration.
+lognormal_radii
+    Polydisperse radii.
+orientations, order_parameter, ORIENTATIONS
+    Aligned, isotropic or nematic orientation distributions for spheroids.
+radial_distribution, contact_value, nearest_gaps, coordination
+    Descriptors: g(r) (periodic or with a guard zone), contact value, nearest-neighbour
+    surface gaps, coordination numbers.
+clusters, ClusterReport, chains, ChainReport
+    Connected groups within a gap: sizes, largest, percolation across the sample; chain
+    lengths and alignment with an axis.
 """
 
-from ._generators import Arrangement, chain, cubic_lattice_sphere, random_sequential_addition
+from ._describe import (
+    ChainReport,
+    ClusterReport,
+    chains,
+    clusters,
+    contact_value,
+    coordination,
+    nearest_gaps,
+    radial_distribution,
+)
+from ._generators import REGIONS, Arrangement, chain, cubic_lattice_sphere
 from ._lattices import LATTICES, chain_array, lattice, touching_fraction
+from ._orient import ORIENTATIONS, order_parameter, orientations
+from ._packing import (
+    addition_kinetics,
+    dense_packing,
+    equilibrate,
+    lognormal_radii,
+    random_sequential_addition,
+)
 
 __all__ = [
     "Arrangement",
+    "REGIONS",
     "cubic_lattice_sphere",
     "chain",
-    "random_sequential_addition",
     "lattice",
     "LATTICES",
     "touching_fraction",
     "chain_array",
+    "random_sequential_addition",
+    "addition_kinetics",
+    "dense_packing",
+    "equilibrate",
+    "lognormal_radii",
+    "orientations",
+    "order_parameter",
+    "ORIENTATIONS",
+    "radial_distribution",
+    "contact_value",
+    "nearest_gaps",
+    "coordination",
+    "clusters",
+    "ClusterReport",
+    "chains",
+    "ChainReport",
 ]

@@ -1,28 +1,42 @@
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
 from .._validate import as_float_array, as_int, as_positive, check_choice
 from ..errors import InputError
 
+REGIONS = ("sphere", "cube", "slab", "periodic")
+
 
 @dataclass(frozen=True, eq=False)
 class Arrangement:
-    """Geometry for a scene.
+    """Geometry for a scene: where the bodies are, how big, which way they point.
 
     Attributes
     ----------
     positions : (N, 3) ndarray of float, reduced length
+        Centres. Periodic samples keep them in ``[0, box)``.
     radii : (N,) ndarray of float
-        Per-body size (sphere radius, or the scale of a population's shape).
+        Sphere radius, or for other shapes the bounding radius (largest semi-axis).
     sample_radius : float or None
-        Radius of the spherical sample the bodies fill.
+        Radius of the spherical sample the bodies fill (``region == "sphere"``).
     description : str
     box : (3,) ndarray or None
-        Edges of the periodic box (periodic samples only).
+        Edges of the periodic box (``region == "periodic"``).
+    semi_axes : (N, 3) ndarray or None
+        Body semi-axes in the body frame; ``None`` means spheres of ``radii``.
+    rotations : (N, 3, 3) ndarray or None
+        Columns are the body axes in the lab frame (the third is a spheroid's symmetry
+        axis); ``None`` means the identity.
+    labels : (N,) ndarray of int or None
+        Population index of each body (``None``: one population).
+    region : {"sphere", "cube", "slab", "periodic"} or None
+        Sample the bodies fill; ``None`` for a free-standing group (a chain).
+    edges : (3,) ndarray or None
+        Edges of an open cube or slab sample centred on the origin.
     """
 
     positions: np.ndarray
@@ -30,6 +44,22 @@ class Arrangement:
     sample_radius: float | None
     description: str
     box: np.ndarray | None = None
+    semi_axes: np.ndarray | None = None
+    rotations: np.ndarray | None = None
+    labels: np.ndarray | None = None
+    region: str | None = None
+    edges: np.ndarray | None = None
+
+    def __post_init__(self):
+        region = self.region
+        if region is None:
+            if self.box is not None:
+                region = "periodic"
+            elif self.sample_radius is not None:
+                region = "sphere"
+            object.__setattr__(self, "region", region)
+        if region is not None:
+            check_choice(region, "region", REGIONS)
 
     @property
     def n_bodies(self) -> int:
@@ -37,11 +67,46 @@ class Arrangement:
         return int(self.positions.shape[0])
 
     @property
+    def body_semi_axes(self) -> np.ndarray:
+        """(N, 3) semi-axes of every body (spheres repeat their radius)."""
+        if self.semi_axes is not None:
+            return self.semi_axes
+        return np.repeat(np.asarray(self.radii, dtype=float)[:, None], 3, axis=1)
+
+    @property
+    def body_rotations(self) -> np.ndarray:
+        """(N, 3, 3) body-to-lab rotations (identity when none are set)."""
+        if self.rotations is not None:
+            return self.rotations
+        return np.broadcast_to(np.eye(3), (self.n_bodies, 3, 3))
+
+    @property
+    def body_volumes(self) -> np.ndarray:
+        """(N,) body volumes."""
+        return 4.0 / 3.0 * math.pi * np.prod(self.body_semi_axes, axis=1)
+
+    @property
+    def sample_volume(self) -> float | None:
+        """Volume of the sample region (``None`` for a free-standing group)."""
+        if self.region == "sphere":
+            return 4.0 / 3.0 * math.pi * float(self.sample_radius) ** 3
+        if self.region == "periodic":
+            return float(np.prod(self.box))
+        if self.region in ("cube", "slab") and self.edges is not None:
+            return float(np.prod(self.edges))
+        return None
+
+    @property
     def volume_fraction(self) -> float | None:
-        """Body volume over sample volume (spherical samples only)."""
-        if self.sample_radius is None:
+        """Body volume over sample volume (``None`` without a sample region)."""
+        v = self.sample_volume
+        if v is None:
             return None
-        return float(np.sum(self.radii**3) / self.sample_radius**3)
+        return float(np.sum(self.body_volumes) / v)
+
+    def replace(self, **changes) -> Arrangement:
+        """A copy with some fields changed."""
+        return replace(self, **changes)
 
 
 def cubic_lattice_sphere(spacing, cut_radius, radius=1.0):
@@ -100,96 +165,3 @@ def chain(n_bodies, spacing, axis=(0.0, 0.0, 1.0), radius=1.0, centre=(0.0, 0.0,
     c = as_float_array(centre, "centre", (3,))
     t = (np.arange(n) - (n - 1) / 2.0) * d
     return Arrangement(c + t[:, None] * u, np.full(n, a), None, f"chain of {n}, spacing {d:g}")
-
-
-def random_sequential_addition(
-    n_bodies, volume_fraction, radius=1.0, *, radii=None, region="sphere", rng=None, max_attempts=2000
-):
-    """Random non-overlapping spheres by random sequential addition.
-
-    Bodies are placed one at a time at uniformly random positions inside the region,
-    rejecting a trial that overlaps an earlier body (checked on a cell list, so a
-    trial costs O(1)). Larger bodies are placed first.
-
-    Parameters
-    ----------
-    n_bodies : int
-    volume_fraction : float
-        Target body volume over region volume, ``0 < phi < 0.3`` (addition jams near
-        0.38 for monodisperse spheres and slows long before).
-    radius : float
-        Radius of every body (ignored when ``radii`` is given).
-    radii : (n_bodies,) array_like, optional
-        Per-body radii (polydisperse).
-    region : {"sphere", "cube"}
-        Shape of the sample. Body centres keep a radius away from the boundary.
-    rng : numpy.random.Generator or int, optional
-    max_attempts : int
-        Trials per body before giving up with an error.
-
-    Returns
-    -------
-    Arrangement
-        Bodies in their original order (``radii`` order when given).
-    """
-    n = as_int(n_bodies, "n_bodies", minimum=1)
-    phi = as_positive(volume_fraction, "volume_fraction")
-    if phi >= 0.3:
-        raise InputError(
-            f"volume_fraction: {phi} is too dense for random sequential addition (allowed < 0.3)",
-            "volume_fraction",
-        )
-    check_choice(region, "region", ("sphere", "cube"))
-    if radii is None:
-        r = np.full(n, as_positive(radius, "radius"))
-    else:
-        r = as_float_array(radii, "radii", (n,))
-        if np.any(r <= 0):
-            raise InputError("radii: every radius must be > 0", "radii")
-    rng = np.random.default_rng(rng)
-    total = float(np.sum(4.0 / 3.0 * math.pi * r**3))
-    volume = total / phi
-    if region == "sphere":
-        R = (3.0 * volume / (4.0 * math.pi)) ** (1.0 / 3.0)
-        half = R
-    else:
-        R = None
-        half = volume ** (1.0 / 3.0) / 2.0
-    rmax = float(r.max())
-    cell = 2.0 * rmax
-    ncell = max(1, int(math.ceil(2.0 * half / cell)))
-    grid: dict[tuple, list] = {}
-    pos = np.empty((n, 3))
-
-    def clear(c, ri, key):
-        for dx in (-1, 0, 1):
-            for dy in (-1, 0, 1):
-                for dz in (-1, 0, 1):
-                    for j in grid.get((key[0] + dx, key[1] + dy, key[2] + dz), ()):
-                        dv = c - pos[j]
-                        if dv @ dv < (ri + r[j]) ** 2:
-                            return False
-        return True
-
-    for placed, idx in enumerate(np.argsort(-r, kind="stable")):
-        ri = r[idx]
-        lim = half - ri
-        if lim <= 0:
-            raise InputError("radii: a body is larger than the sample region", "radii")
-        for _attempt in range(max_attempts):
-            c = rng.uniform(-lim, lim, 3)
-            if region == "sphere" and c @ c > lim * lim:
-                continue
-            key = tuple(np.minimum(((c + half) / cell).astype(int), ncell - 1))
-            if clear(c, ri, key):
-                pos[idx] = c
-                grid.setdefault(key, []).append(idx)
-                break
-        else:
-            raise InputError(
-                f"volume_fraction: placed {placed} of {n} bodies, then {max_attempts} attempts "
-                f"failed at fraction {phi}; lower the fraction",
-                "volume_fraction",
-            )
-    desc = f"random sequential addition, {n} bodies, fraction {phi:g}, {region}"
-    return Arrangement(pos, r, R, desc)

@@ -156,7 +156,15 @@ def lattice(
     if len(pts) == 0:
         raise InputError(f"size: {L:g} is too small to hold a lattice site", "size")
     R = (3.0 * len(pts) * cell_volume / (4.0 * math.pi)) ** (1.0 / 3.0) if sample == "sphere" else None
-    return Arrangement(pts, np.full(len(pts), r), R, f"{kind} {sample} cut, size {L:g}, a {a:g}")
+    edges_out = {"sphere": None, "cube": np.full(3, L), "slab": np.array([4 * L, 4 * L, L])}[sample]
+    return Arrangement(
+        pts,
+        np.full(len(pts), r),
+        R,
+        f"{kind} {sample} cut, size {L:g}, a {a:g}",
+        region=sample,
+        edges=edges_out,
+    )
 
 
 def chain_array(n_x, n_y, n_per_chain, *, radius=1.0, gap=0.0, chain_spacing, axis=(0.0, 0.0, 1.0)):

@@ -92,15 +92,5 @@ def test_missing_file():
         load_config("nowhere.toml")
 
 
-def test_impossible_packing_is_a_config_error():
-    crowded = BASE.replace("volume_fraction = 0.05", "volume_fraction = 0.29").replace(
-        "n_bodies = 50", "n_bodies = 400"
-    )
-    cfg = parse_config(crowded)
-    with pytest.raises(ConfigError, match="placed") as info:
-        build_scene(cfg)
-    assert info.value.key == "arrangement.volume_fraction"
-
-
 def test_docs_page_matches_declaration():
     assert (ROOT / "docs" / "config.md").read_text() == config_markdown()

@@ -1,0 +1,336 @@
+"""Descriptors of an arrangement: g(r), gaps, coordination, clusters and percolation, chains."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.sparse import coo_matrix
+from scipy.sparse.csgraph import breadth_first_order, connected_components
+from scipy.spatial import cKDTree
+
+from .._validate import as_float_array, as_int, as_positive
+from ..errors import InputError
+from ._kernels import Bodies, contact_scales
+
+
+def _tree(arr):
+    pos = np.asarray(arr.positions, dtype=float)
+    if arr.region == "periodic":
+        box = np.asarray(arr.box, dtype=float)
+        pos = np.mod(pos, box)
+        pos[pos >= box] = 0.0
+        return cKDTree(pos, boxsize=box), pos, box
+    return cKDTree(pos), pos, None
+
+
+def _min_image(d, box):
+    if box is None:
+        return d
+    return d - box * np.round(d / box)
+
+
+def _pairs_within(arr, extra):
+    """Pairs whose bounding spheres come within ``extra`` of each other, with vectors and gaps."""
+    tree, pos, box = _tree(arr)
+    bound = np.asarray(arr.radii, dtype=float)
+    pairs = tree.query_pairs(2.0 * float(bound.max()) + extra, output_type="ndarray")
+    if pairs.size == 0:
+        return np.zeros((0, 2), dtype=np.int64), np.zeros((0, 3)), np.zeros(0), pos, box
+    i, j = pairs[:, 0], pairs[:, 1]
+    d = _min_image(pos[j] - pos[i], box)
+    dist = np.linalg.norm(d, axis=1)
+    keep = dist - bound[i] - bound[j] <= extra
+    i, j, d, dist = i[keep], j[keep], d[keep], dist[keep]
+    gaps = _surface_gaps(arr, i, j, d, dist)
+    keep = gaps <= extra
+    return np.stack([i[keep], j[keep]], axis=1), d[keep], gaps[keep], pos, box
+
+
+def _surface_gaps(arr, i, j, d, dist):
+    """Surface gap of each pair: exact for spheres, ``|d| (1 - 1/mu)`` from the contact scale otherwise."""
+    if arr.semi_axes is None:
+        r = np.asarray(arr.radii, dtype=float)
+        return dist - r[i] - r[j]
+    mu = contact_scales(Bodies(arr.body_semi_axes, arr.body_rotations), i, j, d)
+    return dist * (1.0 - 1.0 / mu)
+
+
+def radial_distribution(arrangement, r_max, n_bins=100):
+    """Radial distribution function ``g(r)`` of the body centres.
+
+    Periodic boxes use every body (minimum image, ``r_max`` at most half the box).
+    Open samples use as reference bodies only those at least ``r_max`` inside the
+    sample (a guard zone), so no shell is cut by the boundary.
+
+    Parameters
+    ----------
+    arrangement : Arrangement
+    r_max : float
+        Largest distance (reduced length).
+    n_bins : int
+
+    Returns
+    -------
+    r : (n_bins,) ndarray
+        Bin centres.
+    g : (n_bins,) ndarray
+        Pair density in each shell over the mean density.
+
+    Notes
+    -----
+    ``g(r) = n(r) / (N_ref rho 4/3 pi (r_hi^3 - r_lo^3))`` with ``n(r)`` the ordered pair
+    count from the reference bodies and ``rho = N / V``.
+    """
+    arr = arrangement
+    rmax = as_positive(r_max, "r_max")
+    nb = as_int(n_bins, "n_bins", minimum=1)
+    volume = arr.sample_volume
+    if volume is None:
+        raise InputError(
+            "arrangement: g(r) needs a sample region (sphere, cube, slab or periodic)", "arrangement"
+        )
+    tree, pos, box = _tree(arr)
+    if box is not None and rmax > 0.5 * float(box.min()):
+        raise InputError(f"r_max: {rmax} exceeds half the periodic box ({0.5 * float(box.min())})", "r_max")
+    if box is not None:
+        ref = np.arange(arr.n_bodies)
+    elif arr.region == "sphere":
+        ref = np.flatnonzero(np.linalg.norm(pos, axis=1) <= float(arr.sample_radius) - rmax)
+    else:
+        ref = np.flatnonzero(np.all(np.abs(pos) <= 0.5 * np.asarray(arr.edges) - rmax, axis=1))
+    if ref.size == 0:
+        raise InputError(f"r_max: {rmax} leaves no body that far inside the sample; lower it", "r_max")
+    edges = np.linspace(0.0, rmax, nb + 1)
+    counts = np.zeros(nb)
+    for chunk in np.array_split(ref, max(1, ref.size // 20000)):
+        nbrs = tree.query_ball_point(pos[chunk], rmax)
+        lens = np.array([len(x) for x in nbrs])
+        if lens.sum() == 0:
+            continue
+        jj = np.concatenate([np.asarray(x, dtype=np.int64) for x in nbrs])
+        ii = np.repeat(chunk, lens)
+        dist = np.linalg.norm(_min_image(pos[jj] - pos[ii], box), axis=1)
+        counts += np.histogram(dist[ii != jj], edges)[0]
+    rho = arr.n_bodies / volume
+    shell = 4.0 / 3.0 * math.pi * (edges[1:] ** 3 - edges[:-1] ** 3)
+    return 0.5 * (edges[1:] + edges[:-1]), counts / (ref.size * rho * shell)
+
+
+def contact_value(r, g, contact, width):
+    """Contact value ``g(contact+)`` by a quadratic fit of ``ln g`` over ``[contact, contact + width]``."""
+    sel = (r > contact) & (r < contact + width) & (g > 0)
+    if sel.sum() < 3:
+        raise InputError("width: fewer than three populated bins next to contact", "width")
+    c = np.polyfit(r[sel] - contact, np.log(g[sel]), 2)
+    return float(np.exp(c[-1]))
+
+
+def nearest_gaps(arrangement, search=None):
+    """Surface gap from each body to its nearest neighbour.
+
+    Parameters
+    ----------
+    arrangement : Arrangement
+    search : float, optional
+        Largest gap looked for (default: two mean bounding radii); bodies with no
+        neighbour that close get ``inf``.
+
+    Returns
+    -------
+    (N,) ndarray of float
+        Gap in reduced length (exact for spheres; for other shapes ``|d| (1 - 1/mu)``
+        with ``mu`` the Perram-Wertheim contact scale).
+    """
+    arr = arrangement
+    s = 2.0 * float(np.mean(arr.radii)) if search is None else as_positive(search, "search")
+    pairs, _, gaps, _, _ = _pairs_within(arr, s)
+    out = np.full(arr.n_bodies, np.inf)
+    if len(gaps):
+        np.minimum.at(out, pairs[:, 0], gaps)
+        np.minimum.at(out, pairs[:, 1], gaps)
+    return out
+
+
+def coordination(arrangement, gap=0.0):
+    """Neighbours of each body within a surface gap of ``gap`` (contacts at 0, with rounding slack)."""
+    arr = arrangement
+    g = as_positive(gap, "gap", allow_zero=True)
+    tol = 1e-7 * float(np.mean(arr.radii))
+    pairs, _, _, _, _ = _pairs_within(arr, g + tol)
+    return np.bincount(pairs.ravel(), minlength=arr.n_bodies) if len(pairs) else np.zeros(arr.n_bodies, int)
+
+
+@dataclass(frozen=True)
+class ClusterReport:
+    """Connected groups of bodies closer than a surface gap.
+
+    Attributes
+    ----------
+    labels : (N,) ndarray of int
+        Cluster of each body, numbered by decreasing size.
+    sizes : (n_clusters,) ndarray of int
+        Bodies per cluster, largest first.
+    percolating : (n_clusters, 3) ndarray of bool
+        Whether each cluster spans the sample along x, y, z (periodic: wraps around
+        the box onto its own image; open: reaches both opposite boundary layers).
+    gap : float
+        The connection threshold.
+    """
+
+    labels: np.ndarray
+    sizes: np.ndarray
+    percolating: np.ndarray
+    gap: float
+
+    @property
+    def n_clusters(self) -> int:
+        """Number of clusters (isolated bodies count as clusters of one)."""
+        return int(self.sizes.size)
+
+    @property
+    def largest(self) -> int:
+        """Bodies in the largest cluster."""
+        return int(self.sizes[0]) if self.sizes.size else 0
+
+    @property
+    def percolates(self) -> np.ndarray:
+        """(3,) whether any cluster spans the sample along each axis."""
+        return self.percolating.any(axis=0)
+
+
+def clusters(arrangement, gap):
+    """Cluster analysis: bodies whose surfaces are within ``gap`` are connected.
+
+    Parameters
+    ----------
+    arrangement : Arrangement
+    gap : float
+        Connection threshold on the surface gap (reduced length, >= 0).
+
+    Returns
+    -------
+    ClusterReport
+    """
+    arr = arrangement
+    g = as_positive(gap, "gap", allow_zero=True)
+    n = arr.n_bodies
+    tol = 1e-7 * float(np.mean(arr.radii))
+    pairs, vec, _, pos, box = _pairs_within(arr, g + tol)
+    graph = coo_matrix((np.ones(len(pairs)), (pairs[:, 0], pairs[:, 1])), shape=(n, n)).tocsr()
+    n_c, raw = connected_components(graph, directed=False)
+    sizes = np.bincount(raw, minlength=n_c)
+    rank = np.empty(n_c, dtype=np.int64)
+    order = np.argsort(-sizes, kind="stable")
+    rank[order] = np.arange(n_c)
+    labels = rank[raw]
+    sizes = sizes[order]
+    perc = np.zeros((n_c, 3), dtype=bool)
+    if box is not None:
+        perc = _wrapping(graph, pairs, vec, labels, sizes, pos, box)
+    else:
+        r = np.asarray(arr.radii, dtype=float)
+        if arr.region == "sphere":
+            hi = np.full(3, float(arr.sample_radius))
+        elif arr.edges is not None:
+            hi = 0.5 * np.asarray(arr.edges, dtype=float)
+        else:
+            hi = None
+        if hi is not None:
+            layer = g + 2.0 * float(r.mean())
+            lo_reach = np.full((n_c, 3), np.inf)
+            hi_reach = np.full((n_c, 3), -np.inf)
+            np.minimum.at(lo_reach, labels, pos - r[:, None])
+            np.maximum.at(hi_reach, labels, pos + r[:, None])
+            perc = (lo_reach <= -hi + layer) & (hi_reach >= hi - layer)
+    return ClusterReport(labels, sizes, perc, g)
+
+
+def _wrapping(graph, pairs, vec, labels, sizes, pos, box):
+    """Periodic percolation: a cluster wraps when unwrapping it along a spanning tree is inconsistent."""
+    n = pos.shape[0]
+    n_c = sizes.size
+    perc = np.zeros((n_c, 3), dtype=bool)
+    big = np.flatnonzero(sizes > 1)
+    if big.size == 0:
+        return perc
+    sym = graph + graph.T
+    unwrapped = np.zeros((n, 3))
+    seen = np.zeros(n, dtype=bool)
+    for c in big:
+        start = int(np.flatnonzero(labels == c)[0])
+        order, pred = breadth_first_order(sym, start, directed=False, return_predecessors=True)
+        unwrapped[start] = pos[start]
+        for node in order[1:]:
+            p = pred[node]
+            unwrapped[node] = unwrapped[p] + _min_image(pos[node] - pos[p], box)
+        seen[order] = True
+    i, j = pairs[:, 0], pairs[:, 1]
+    shift = np.rint((unwrapped[j] - unwrapped[i] - vec) / box).astype(np.int64)
+    bad = np.abs(shift) > 0
+    for k in range(3):
+        perc[np.unique(labels[i[bad[:, k]]]), k] = True
+    return perc
+
+
+@dataclass(frozen=True)
+class ChainReport:
+    """Chains (clusters of two or more bodies) and how they line up with an axis.
+
+    Attributes
+    ----------
+    sizes : (M,) ndarray of int
+        Bodies per chain, largest first.
+    lengths : (M,) ndarray of float
+        Extent along the axis (projected centres plus one diameter), reduced length.
+    alignment : (M,) ndarray of float
+        ``|cos|`` between each chain's principal axis (largest gyration eigenvector) and
+        the axis.
+    order_parameter : float
+        Size-weighted ``<P2>`` of the chain axes about the axis.
+    fraction_in_chains : float
+        Share of all bodies that sit in chains.
+    """
+
+    sizes: np.ndarray
+    lengths: np.ndarray
+    alignment: np.ndarray
+    order_parameter: float
+    fraction_in_chains: float
+
+
+def chains(arrangement, gap, axis=(0.0, 0.0, 1.0)):
+    """Chain analysis: clusters (at surface gap ``gap``) of two or more bodies and their alignment.
+
+    Periodic clusters are unwrapped before their extent is measured; a chain that wraps
+    around the box reports the box length.
+    """
+    arr = arrangement
+    u = as_float_array(axis, "axis", (3,))
+    if not np.linalg.norm(u):
+        raise InputError("axis: must be a non-zero vector", "axis")
+    u = u / np.linalg.norm(u)
+    rep = clusters(arr, gap)
+    r = np.asarray(arr.radii, dtype=float)
+    tree, pos, box = _tree(arr)
+    multi = np.flatnonzero(rep.sizes > 1)
+    sizes = rep.sizes[multi]
+    lengths = np.zeros(multi.size)
+    align = np.zeros(multi.size)
+    order = np.argsort(rep.labels, kind="stable")
+    bounds = np.concatenate([[0], np.cumsum(np.bincount(rep.labels, minlength=rep.n_clusters))])
+    for k, c in enumerate(multi):
+        members = order[bounds[c] : bounds[c + 1]]
+        p = pos[members]
+        if box is not None:
+            p = p[0] + _min_image(p - p[0], box)
+        p = p - p.mean(axis=0)
+        proj = p @ u
+        lengths[k] = float(proj.max() - proj.min() + 2.0 * r[members].mean())
+        if box is not None and rep.percolating[c] @ np.abs(u) > 0.5:
+            lengths[k] = float(np.abs(box) @ np.abs(u))
+        w, v = np.linalg.eigh(p.T @ p)
+        align[k] = abs(float(v[:, -1] @ u))
+    s2 = float(np.sum(sizes * (1.5 * align**2 - 0.5)) / sizes.sum()) if sizes.size else 0.0
+    return ChainReport(sizes, lengths, align, s2, float(sizes.sum() / arr.n_bodies))
