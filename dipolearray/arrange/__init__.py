@@ -24,6 +24,12 @@ lognormal_radii
     Polydisperse radii.
 orientations, order_parameter, ORIENTATIONS
     Aligned, isotropic or nematic orientation distributions for spheroids.
+cluster_aggregation, fractal_dimension, clustered, place_groups, CLUSTER_KINDS
+    Diffusion-limited cluster-cluster aggregation; fillers partly in fractal or compact
+    clusters at a fixed overall fraction; random placement of rigid groups.
+field_chains, chain_lengths, LENGTH_DISTRIBUTIONS, CHAIN_LAYOUTS
+    Chains along the field with a length distribution and misalignment, as single
+    chains, sheets or body-centred tetragonal columns.
 radial_distribution, contact_value, nearest_gaps, coordination
     Descriptors: g(r) (periodic or with a guard zone), contact value, nearest-neighbour
     surface gaps, coordination numbers.
@@ -32,6 +38,8 @@ clusters, ClusterReport, chains, ChainReport
     lengths and alignment with an axis.
 """
 
+from ._chains import CHAIN_LAYOUTS, LENGTH_DISTRIBUTIONS, chain_lengths, field_chains
+from ._clusters import CLUSTER_KINDS, cluster_aggregation, clustered, fractal_dimension, place_groups
 from ._describe import (
     ChainReport,
     ClusterReport,
@@ -78,4 +86,13 @@ __all__ = [
     "ClusterReport",
     "chains",
     "ChainReport",
+    "cluster_aggregation",
+    "fractal_dimension",
+    "clustered",
+    "place_groups",
+    "CLUSTER_KINDS",
+    "field_chains",
+    "chain_lengths",
+    "LENGTH_DISTRIBUTIONS",
+    "CHAIN_LAYOUTS",
 ]

@@ -11,6 +11,7 @@ import math
 
 import numpy as np
 
+from ._aggregate import dlca, dlca_init, place_groups
 from ._hard import (
     fire_relax,
     is_clear,
@@ -33,6 +34,8 @@ __all__ = [
     "is_clear",
     "pw_max",
     "contact_scales",
+    "aggregate",
+    "groups",
 ]
 
 KINDS = {"periodic": 0, "cube": 1, "sphere": 2}
@@ -215,3 +218,99 @@ def contact_scales(bodies, i, j, d):
         out,
     )
     return out
+
+
+def aggregate(positions, box, contact, step, target, max_moves, rng):
+    """Cluster-cluster aggregation in a periodic cube (see ``_aggregate.dlca``).
+
+    Returns ``(unwrapped positions, labels, history (M, 2), clusters left, moves)``.
+    """
+    n = positions.shape[0]
+    L = np.asarray(box, dtype=np.float64)
+    grid = Grid("periodic", L, contact + step, n)
+    ncell = int(np.prod(grid.geo_i[1:]))
+    cell_volume = float(np.prod(grid.geo_f[6:9]))
+    cap = int(min(n, math.ceil(cell_volume / (math.pi / 6 * contact**3 * 0.74)) + 4))
+    items = np.zeros((ncell, cap), dtype=np.int64)
+    count = np.zeros(ncell, dtype=np.int64)
+    slot = np.zeros(n, dtype=np.int64)
+    pos = np.ascontiguousarray(np.mod(positions, L), dtype=np.float64)
+    upos = pos.copy()
+    dlca_init(pos, grid.geo_f, grid.geo_i, items, count, slot)
+    state = np.array([n], dtype=np.int64)
+    label, head, tail, active, where = (np.arange(n) for _ in range(5))
+    nxt = np.full(n, -1, dtype=np.int64)
+    size = np.ones(n, dtype=np.int64)
+    hist = []
+    done = 0
+    while state[0] > target and done < max_moves:
+        m = int(min(1_000_000, max_moves - done))
+        part = np.zeros((m, 2))
+        moves, merges = dlca(
+            pos,
+            upos,
+            float(contact),
+            float(step),
+            grid.geo_f,
+            grid.geo_i,
+            items,
+            count,
+            slot,
+            state,
+            label,
+            head,
+            nxt,
+            tail,
+            size,
+            active,
+            where,
+            int(target),
+            m,
+            rng.random((m, 3)),
+            part,
+        )
+        hist.append(part[:merges])
+        done += moves
+    history = np.concatenate(hist) if hist else np.zeros((0, 2))
+    return upos, label.copy(), history, int(state[0]), done
+
+
+def groups(offsets, starts, radii, kind, edges, rotate, spin_axis, rng, max_fails):
+    """Random sequential addition of rigid sphere groups; returns ``(positions, rotations, placed)``.
+
+    ``placed`` groups were placed before ``max_fails`` consecutive trials failed.
+    """
+    n = offsets.shape[0]
+    rad = np.ascontiguousarray(radii, dtype=np.float64)
+    bodies = Bodies(np.repeat(rad[:, None], 3, axis=1))
+    grid = Grid(kind, edges, 2.0 * float(rad.max()), n)
+    grid.head[:] = -1
+    pos = np.zeros((n, 3))
+    st = np.ascontiguousarray(starts, dtype=np.int64)
+    G = len(st) - 1
+    rot = np.zeros((G, 3, 3))
+    g, fails = 0, 0
+    axis = np.ascontiguousarray(spin_axis, dtype=np.float64)
+    off = np.ascontiguousarray(offsets, dtype=np.float64)
+    while g < G and fails < max_fails:
+        uni = rng.random((65536, 6))
+        g, used, fails = place_groups(
+            pos,
+            rad,
+            off,
+            st,
+            g,
+            fails,
+            int(rotate),
+            axis,
+            bodies.bnd,
+            bodies.q6,
+            grid.geo_f,
+            grid.geo_i,
+            grid.head,
+            grid.nxt,
+            uni,
+            int(max_fails),
+            rot,
+        )
+    return pos, rot, g
