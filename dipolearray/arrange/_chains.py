@@ -131,9 +131,9 @@ def field_chains(
 
     Examples
     --------
-    >>> arr = field_chains(400, 0.1, mean_length=10, rng=3)
+    >>> arr = field_chains(1000, 0.05, mean_length=10, rng=3)
     >>> int(arr.labels.max()) + 1, arr.n_bodies
-    (40, 400)
+    (100, 1000)
     """
     n = as_int(n_bodies, "n_bodies", minimum=1)
     a = as_positive(radius, "radius")
