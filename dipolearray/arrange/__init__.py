@@ -30,6 +30,11 @@ cluster_aggregation, fractal_dimension, clustered, place_groups, CLUSTER_KINDS
 field_chains, chain_lengths, LENGTH_DISTRIBUTIONS, CHAIN_LAYOUTS
     Chains along the field with a length distribution and misalignment, as single
     chains, sheets or body-centred tetragonal columns.
+read_arrangement, write_arrangement, LENGTH_UNITS
+    CSV and extended XYZ import/export with the column convention documented in
+    ``docs/microstructure_files.md``; exact round trip.
+overlapping_pairs
+    The first overlapping pairs (exact test), as the scene would find them.
 radial_distribution, contact_value, nearest_gaps, coordination
     Descriptors: g(r) (periodic or with a guard zone), contact value, nearest-neighbour
     surface gaps, coordination numbers.
@@ -48,9 +53,11 @@ from ._describe import (
     contact_value,
     coordination,
     nearest_gaps,
+    overlapping_pairs,
     radial_distribution,
 )
 from ._generators import REGIONS, Arrangement, chain, cubic_lattice_sphere
+from ._io import LENGTH_UNITS, microstructure_format_markdown, read_arrangement, write_arrangement
 from ._lattices import LATTICES, chain_array, lattice, touching_fraction
 from ._orient import ORIENTATIONS, order_parameter, orientations
 from ._packing import (
@@ -95,4 +102,9 @@ __all__ = [
     "chain_lengths",
     "LENGTH_DISTRIBUTIONS",
     "CHAIN_LAYOUTS",
+    "read_arrangement",
+    "write_arrangement",
+    "LENGTH_UNITS",
+    "microstructure_format_markdown",
+    "overlapping_pairs",
 ]

@@ -153,6 +153,25 @@ def nearest_gaps(arrangement, search=None):
     return out
 
 
+def overlapping_pairs(arrangement, max_pairs=10):
+    """Pairs ``(i, j)``, ``i < j``, whose interiors intersect (exact; touching is allowed).
+
+    Spheres by centre distance, other shapes by the Perram-Wertheim contact scale;
+    periodic boxes by the minimum image. Sorted, at most ``max_pairs`` (``None``: all).
+    """
+    arr = arrangement
+    pairs, _, gaps, _, _ = _pairs_within(arr, 0.0)
+    size = np.asarray(arr.radii, dtype=float)
+    if len(pairs) == 0:
+        return []
+    bad = gaps < -1e-9 * (size[pairs[:, 0]] + size[pairs[:, 1]])
+    pairs = np.sort(pairs[bad], axis=1)
+    pairs = pairs[np.lexsort((pairs[:, 1], pairs[:, 0]))]
+    if max_pairs is not None:
+        pairs = pairs[:max_pairs]
+    return [(int(i), int(j)) for i, j in pairs]
+
+
 def coordination(arrangement, gap=0.0):
     """Neighbours of each body within a surface gap of ``gap`` (contacts at 0, with rounding slack)."""
     arr = arrangement
