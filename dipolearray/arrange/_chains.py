@@ -127,12 +127,12 @@ def field_chains(
     Returns
     -------
     Arrangement
-        ``labels`` give each body's chain.
+        ``groups`` give each body's chain.
 
     Examples
     --------
     >>> arr = field_chains(1000, 0.05, mean_length=10, rng=3)
-    >>> int(arr.labels.max()) + 1, arr.n_bodies
+    >>> int(arr.groups.max()) + 1, arr.n_bodies
     (100, 1000)
     """
     n = as_int(n_bodies, "n_bodies", minimum=1)
@@ -185,4 +185,4 @@ def field_chains(
         f"{chain_id} field chains ({distribution}, mean {float(mean_length):g}), layout {layout}, "
         f"misalignment {tilt_deg:g} deg, {n} bodies, fraction {float(volume_fraction):g}, {region}"
     )
-    return arr.replace(labels=chain_ids, description=desc)
+    return arr.replace(groups=chain_ids, description=desc)

@@ -141,7 +141,7 @@ def place_groups(
     Returns
     -------
     Arrangement
-        Bodies group by group in the given order; ``labels`` give each body's group.
+        Bodies group by group in the given order; ``groups`` give each body's group.
     """
     check_choice(region, "region", PACK_REGIONS)
     a = as_positive(radius, "radius")
@@ -190,8 +190,8 @@ def place_groups(
     back = np.argsort(labels, kind="stable")
     semi = np.full((n, 3), a)
     desc = f"{len(offs)} rigid groups, {n} bodies, fraction {phi:g}, {region}"
-    arr = _make_arrangement(pos[back], semi, None, region, edges, R, desc, labels=labels[back])
-    return arr
+    arr = _make_arrangement(pos[back], semi, None, region, edges, R, desc)
+    return arr.replace(groups=labels[back])
 
 
 CLUSTER_KINDS = ("fractal", "compact")
@@ -237,7 +237,7 @@ def clustered(
     Returns
     -------
     Arrangement
-        ``labels`` number the clusters 0 .. n_clusters - 1; dispersed spheres carry -1.
+        ``groups`` number the clusters 0 .. n_clusters - 1; dispersed spheres carry -1.
     """
     n = as_int(n_bodies, "n_bodies", minimum=1)
     m = as_int(cluster_size, "cluster_size", minimum=2, maximum=n)
@@ -263,9 +263,9 @@ def clustered(
     n_single = n - n_c * m
     groups.extend(np.zeros((1, 3)) for _ in range(n_single))
     arr = place_groups(groups, a, volume_fraction, region=region, rotate=True, rng=rng)
-    labels = np.where(arr.labels < n_c, arr.labels, -1)
+    groups = np.where(arr.groups < n_c, arr.groups, -1)
     desc = (
         f"{n_c} {kind} clusters of {m} plus {n_single} dispersed, {n} bodies, "
         f"fraction {float(volume_fraction):g}, {region}"
     )
-    return arr.replace(labels=labels, description=desc)
+    return arr.replace(groups=groups, description=desc)

@@ -33,6 +33,9 @@ class Arrangement:
         axis); ``None`` means the identity.
     labels : (N,) ndarray of int or None
         Population index of each body (``None``: one population).
+    groups : (N,) ndarray of int or None
+        Cluster, chain or group each body was built in (-1: none), as generated; a
+        record of construction, not a measurement (see :func:`clusters`).
     region : {"sphere", "cube", "slab", "periodic"} or None
         Sample the bodies fill; ``None`` for a free-standing group (a chain).
     edges : (3,) ndarray or None
@@ -47,6 +50,7 @@ class Arrangement:
     semi_axes: np.ndarray | None = None
     rotations: np.ndarray | None = None
     labels: np.ndarray | None = None
+    groups: np.ndarray | None = None
     region: str | None = None
     edges: np.ndarray | None = None
 

@@ -16,6 +16,7 @@ columns                     meaning
 ``r11 ... r33``             optional: the 3 x 3 body-to-lab rotation, row by row
                             (its columns are the body axes in the lab frame)
 ``population``              optional: non-negative integer population label
+``group``                   optional: integer cluster or chain number (-1: none)
 ==========================  ==========================================================
 
 Metadata (CSV: ``# key = value`` lines before the header; extended XYZ: ``key=value``
@@ -25,7 +26,7 @@ periodic), ``sample_radius`` (sphere), ``edges`` (cube or slab, three numbers) a
 Extended XYZ follows the open convention of a count line, a comment line with
 ``Properties=name:type:count:...`` and one row per body; our column groups there are
 ``pos:R:3``, ``radius:R:1`` or ``semi_axes:R:3``, ``axis:R:3``, ``quaternion:R:4``,
-``rotation:R:9`` and ``population:I:1`` (a leading ``species:S:1`` is read and ignored).
+``rotation:R:9``, ``population:I:1`` and ``group:I:1`` (a leading ``species:S:1`` is read and ignored).
 """
 
 from __future__ import annotations
@@ -157,7 +158,13 @@ def _assemble(cols, get, n, meta, where, length_unit_m, check_overlap):
     region = meta.get("region")
     if region is not None and region not in REGIONS:
         raise InputError(f"region: {region!r} in {where} is not one of {REGIONS}", "region")
-    kw = dict(region=region, labels=labels)
+    groups = None
+    if "group" in cols:
+        grp = get("group")
+        if np.any(grp < -1) or np.any(grp != np.round(grp)):
+            raise InputError(f"group: numbers in {where} must be integers >= -1", "group")
+        groups = grp.astype(np.int64)
+    kw = dict(region=region, labels=labels, groups=groups)
     R = None
     if "box" in meta:
         kw["box"] = _floats(meta["box"], "box", where, 3) * scale
@@ -248,6 +255,7 @@ _GROUPS = {
     "quaternion": ["qw", "qx", "qy", "qz"],
     "rotation": _ROT,
     "population": ["population"],
+    "group": ["group"],
 }
 
 
@@ -338,6 +346,8 @@ def _columns(arr):
         cols.update({k: R[:, m] for m, k in enumerate(_ROT)})
     if arr.labels is not None:
         cols["population"] = np.asarray(arr.labels)
+    if arr.groups is not None:
+        cols["group"] = np.asarray(arr.groups)
     return cols
 
 
@@ -402,6 +412,8 @@ def write_arrangement(path, arrangement, *, format=None, length_unit=None, overw
             groups.append(("rotation", "R", 9))
         if "population" in cols:
             groups.append(("population", "I", 1))
+        if "group" in cols:
+            groups.append(("group", "I", 1))
         props = ":".join(f"{g}:{t}:{c}" for g, t, c in groups)
         order = [c for g, _, _ in groups for c in _GROUPS[g]]
         pairs = [f'{k}="{v}"' for k, v in meta.items()]

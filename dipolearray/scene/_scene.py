@@ -283,6 +283,73 @@ class Scene:
         s = self.semi_axes
         return np.ptp(s, axis=1) <= 1e-12 * s.max(axis=1)
 
+    @classmethod
+    def from_arrangement(cls, arrangement, populations, *, boundary=None, **kwargs) -> Scene:
+        """A scene from an :class:`~dipolearray.arrange.Arrangement` and the populations it uses.
+
+        Each body's size and orientation come from the arrangement: its per-body
+        semi-axes must be a uniform multiple of its population's shape (that multiple
+        becomes ``scale``), its ``labels`` pick the population (all population 0 when
+        absent), and a spherical sample's radius becomes ``sample_radius``.
+
+        Parameters
+        ----------
+        arrangement : Arrangement
+        populations : Population or sequence of Population
+        boundary : {"open"}, optional
+            A periodic arrangement needs an explicit ``"open"`` (treat the box as a finite
+            cube sample) until periodic scenes exist.
+        **kwargs
+            Any other :class:`Scene` field (``host``, ``field``, ``length_unit_m``, ...).
+
+        Examples
+        --------
+        >>> from dipolearray import Material, Sphere
+        >>> from dipolearray.arrange import random_sequential_addition
+        >>> arr = random_sequential_addition(50, 0.1, radii=np.linspace(0.5, 1.0, 50), rng=0)
+        >>> s = Scene.from_arrangement(arr, Population(Sphere(0.5), Material(8.0)))
+        >>> float(s.scale.max()), s.sample_radius == arr.sample_radius
+        (2.0, True)
+        """
+        arr = arrangement
+        pops = (populations,) if isinstance(populations, Population) else tuple(populations)
+        if arr.region == "periodic" and boundary != "open":
+            raise InputError(
+                "boundary: the arrangement is a periodic box; pass boundary='open' to treat it as a finite "
+                "cube (periodic scenes are not available yet)",
+                "boundary",
+            )
+        n = arr.n_bodies
+        index = np.zeros(n, dtype=np.int64) if arr.labels is None else np.asarray(arr.labels, dtype=np.int64)
+        if index.size and (index.min() < 0 or index.max() >= len(pops)):
+            raise InputError(
+                f"populations: the arrangement labels bodies 0..{int(index.max())}, but "
+                f"{len(pops)} population(s) were given",
+                "populations",
+            )
+        semi = np.asarray(arr.body_semi_axes, dtype=float)
+        shape = np.array([p.shape.semi_axes for p in pops], dtype=float)[index]
+        ratio = semi / shape
+        scale = ratio.mean(axis=1)
+        bad = np.flatnonzero(np.ptp(ratio, axis=1) > 1e-9 * scale)
+        if bad.size:
+            k = int(bad[0])
+            raise InputError(
+                f"populations: body {k} has semi-axes {tuple(semi[k])}, not a multiple of its "
+                f"population's {tuple(shape[k])}",
+                "populations",
+            )
+        kwargs.setdefault("sample_radius", arr.sample_radius)
+        return cls(
+            positions=arr.positions,
+            populations=pops,
+            population_index=index,
+            scale=scale,
+            rotations=None if arr.rotations is None else arr.rotations,
+            boundary=boundary or "open",
+            **kwargs,
+        )
+
     def replace(self, **changes) -> Scene:
         """Return a new, re-validated scene with some fields changed."""
         unknown = set(changes) - {f.name for f in dataclasses.fields(self)}

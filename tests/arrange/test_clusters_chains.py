@@ -49,13 +49,13 @@ def test_clustered_fraction_and_sizes(kind):
     arr = clustered(1200, 0.05, cluster_size=20, fraction_clustered=0.5, kind=kind, region="cube", rng=4)
     assert arr.volume_fraction == pytest.approx(0.05, rel=1e-12)
     assert _no_overlap(arr)
-    counts = np.bincount(arr.labels + 1)
+    counts = np.bincount(arr.groups + 1)
     assert counts[0] == 600 and set(counts[1:]) == {20} and len(counts) == 31
     # Members of one cluster are connected within a small gap, dispersed bodies mostly alone.
     gap = 1e-7 if kind == "fractal" else 0.5
     rep = clusters(arr, gap=gap)
     for c in range(30):
-        assert len(set(rep.labels[arr.labels == c])) == 1
+        assert len(set(rep.labels[arr.groups == c])) == 1
     assert rep.largest >= 20
 
 
@@ -82,7 +82,7 @@ def test_chain_length_distributions():
 def test_field_chains_are_found_by_chain_analysis():
     arr = field_chains(600, 0.1, mean_length=12, axis=[1.0, 0.0, 0.0], gap=0.05, region="cube", rng=5)
     assert _no_overlap(arr) and arr.volume_fraction == pytest.approx(0.1, rel=1e-12)
-    true_sizes = np.bincount(arr.labels)
+    true_sizes = np.bincount(arr.groups)
     assert true_sizes.max() == 11  # 12 is cut to what 80 % of the cube edge holds
     ch = chains(arr, gap=0.06, axis=[1.0, 0.0, 0.0])
     assert ch.fraction_in_chains == 1.0
@@ -103,7 +103,7 @@ def test_sheets_and_columns(layout):
         700, 0.1, mean_length=10, layout=layout, chains_per_group=5, region="periodic", gap=0.0, rng=6
     )
     assert _no_overlap(arr)
-    labels = arr.labels
+    labels = arr.groups
     n_chains = labels.max() + 1
     assert np.bincount(labels).max() == 7  # 10 cut to half the periodic box (edge 30.8)
     rep = clusters(arr, gap=1e-7)

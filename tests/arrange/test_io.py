@@ -20,7 +20,18 @@ from dipolearray.arrange import (
 )
 
 ROOT = Path(__file__).resolve().parents[2]
-FIELDS = ("positions", "radii", "sample_radius", "box", "semi_axes", "rotations", "labels", "region", "edges")
+FIELDS = (
+    "positions",
+    "radii",
+    "sample_radius",
+    "box",
+    "semi_axes",
+    "rotations",
+    "labels",
+    "groups",
+    "region",
+    "edges",
+)
 
 
 def _same(a, b):

@@ -117,3 +117,25 @@ def test_derived_quantities():
     assert s.is_complex and s.dtype == np.complex128
     np.testing.assert_allclose(s.volumes, 4 * np.pi / 3 * np.array([8.0, 2.0]))
     assert s.n_fields == 3
+
+
+def test_scene_from_arrangement():
+    from dipolearray.arrange import orientations, random_sequential_addition
+
+    rot = orientations(100, "isotropic", rng=1)
+    arr = random_sequential_addition(100, 0.1, semi_axes=(0.6, 0.6, 1.8), rotations=rot, rng=2)
+    pop = da.Population(da.Spheroid(polar=0.9, equatorial=0.3), da.Material(7.0))
+    s = da.Scene.from_arrangement(arr, pop, host=da.Material(2.0))
+    np.testing.assert_allclose(s.scale, 2.0, rtol=1e-14)
+    np.testing.assert_array_equal(s.rotations, rot)
+    assert s.sample_radius == arr.sample_radius and s.eps_host == 2.0
+    with pytest.raises(da.InputError, match="not a multiple"):
+        da.Scene.from_arrangement(arr, da.Population(da.Sphere(1.0), da.Material(7.0)))
+    two = arr.replace(labels=np.arange(100) % 3)
+    with pytest.raises(da.InputError, match="population"):
+        da.Scene.from_arrangement(two, [pop, pop])
+    box = random_sequential_addition(100, 0.1, region="periodic", rng=3)
+    with pytest.raises(da.InputError, match="boundary"):
+        da.Scene.from_arrangement(box, da.Population(da.Sphere(1.0), da.Material(7.0)))
+    s = da.Scene.from_arrangement(box, da.Population(da.Sphere(1.0), da.Material(7.0)), boundary="open")
+    assert s.n_bodies == 100
