@@ -108,6 +108,23 @@ class Arrangement:
             return None
         return float(np.sum(self.body_volumes) / v)
 
+    def scaled(self, factor) -> Arrangement:
+        """The same arrangement with every length multiplied by ``factor`` (a change of unit)."""
+        f = as_positive(factor, "factor")
+
+        def mul(v):
+            return None if v is None else np.asarray(v, dtype=float) * f
+
+        return replace(
+            self,
+            positions=self.positions * f,
+            radii=np.asarray(self.radii) * f,
+            sample_radius=None if self.sample_radius is None else float(self.sample_radius) * f,
+            box=mul(self.box),
+            semi_axes=mul(self.semi_axes),
+            edges=mul(self.edges),
+        )
+
     def replace(self, **changes) -> Arrangement:
         """A copy with some fields changed."""
         return replace(self, **changes)

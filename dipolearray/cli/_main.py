@@ -13,6 +13,7 @@ EXIT_SCHEMA = 4
 COMMANDS = {
     "solve": "dipolearray.cli._solve",
     "check": "dipolearray.cli._check",
+    "arrange": "dipolearray.cli._arrange",
     "inspect": "dipolearray.cli._inspect",
 }
 

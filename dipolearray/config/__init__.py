@@ -5,7 +5,8 @@ A config is read with :mod:`tomllib`; every key is declared once in
 with the dotted path and the nearest valid key. The same declaration renders the
 reference table in ``docs/config.md``. :func:`build_scene` turns a checked config into
 the same API calls a Python user makes; nothing here reads files by itself except
-:func:`load_config`, which is handed a path.
+:func:`load_config`, which is handed a path, and ``kind = "file"`` arrangements,
+read from the path the config names.
 
 Public names
 ------------
@@ -13,21 +14,23 @@ load_config, parse_config
     Read and check a TOML file or text -> :class:`RunConfig`.
 RunConfig
     The checked config (frozen).
-build_scene
-    :class:`~dipolearray.scene.Scene` from a :class:`RunConfig`.
+build_arrangement, build_scene
+    The :class:`~dipolearray.arrange.Arrangement`, and the
+    :class:`~dipolearray.scene.Scene`, a :class:`RunConfig` describes.
 run_config
     Build, solve and (optionally) store one config; returns the solution and path.
 SECTIONS, config_markdown
     The key declarations and their rendering for the docs.
 """
 
-from ._build import build_scene, run_config
+from ._build import build_arrangement, build_scene, run_config
 from ._schema import SECTIONS, RunConfig, config_markdown, load_config, parse_config
 
 __all__ = [
     "load_config",
     "parse_config",
     "RunConfig",
+    "build_arrangement",
     "build_scene",
     "run_config",
     "SECTIONS",

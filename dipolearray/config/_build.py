@@ -1,11 +1,21 @@
 from __future__ import annotations
 
-import math
 from pathlib import Path
 
 import numpy as np
 
-from ..arrange import chain, cubic_lattice_sphere, random_sequential_addition
+from ..arrange import (
+    chain,
+    clustered,
+    cubic_lattice_sphere,
+    dense_packing,
+    field_chains,
+    lattice,
+    lognormal_radii,
+    orientations,
+    random_sequential_addition,
+    read_arrangement,
+)
 from ..errors import ConfigError, InputError
 from ..materials import Material
 from ..scene import Population, Scene
@@ -59,16 +69,8 @@ def reference_length(cfg) -> float:
     return float(np.prod(a)) ** (1.0 / 3.0)
 
 
-def build_scene(cfg) -> Scene:
-    """Build the :class:`Scene` a config describes (the same calls a Python user makes).
-
-    Lengths become reduced by the reference length (the volume-equivalent radius of
-    the first population, in metres, kept as ``scene.length_unit_m``).
-    """
-    length = reference_length(cfg)
-    arr = cfg.arrangement
-    rng = np.random.default_rng(arr["seed"])
-    pops = tuple(
+def _populations(cfg, length):
+    return tuple(
         Population(
             _shape(p, length),
             Material(_eps(p["eps"], p["eps_loss"]), name=p["name"]),
@@ -76,64 +78,153 @@ def build_scene(cfg) -> Scene:
         )
         for p in cfg.populations
     )
-    bound = np.array([max(pop.shape.semi_axes) for pop in pops])
+
+
+def _orientations(p, n, rng):
+    if p["shape"] == "sphere" or n == 0:
+        return np.broadcast_to(np.eye(3), (n, 3, 3)).copy()
+    if p["orientation"] == "aligned":
+        return np.broadcast_to(rotation_to_axis(p["axis"]), (n, 3, 3)).copy()
+    if p["orientation"] == "random":
+        return _random_rotations(n, rng)
+    return orientations(n, "nematic", axis=p["axis"], order_parameter=p["order_parameter"], rng=rng)
+
+
+def build_arrangement(cfg):
+    """Generate (or read) the arrangement a config describes, in reduced units.
+
+    Returns an :class:`~dipolearray.arrange.Arrangement` whose ``labels`` give each
+    body's population and whose sizes are multiples of the population shapes.
+    """
+    length = reference_length(cfg)
+    arr = cfg.arrangement
+    kind = arr["kind"]
+    rng = np.random.default_rng(arr["seed"])
+    pops = _populations(cfg, length)
+    semi0 = np.array([pop.shape.semi_axes for pop in pops], dtype=float)
+    region = arr["region"]
     try:
-        if arr["kind"] == "random":
+        if kind in ("random", "dense"):
             counts = _counts(arr["n_bodies"], [p["fraction"] for p in cfg.populations])
             index = np.repeat(np.arange(len(pops)), counts)
             rng.shuffle(index)
-            layout = random_sequential_addition(
-                arr["n_bodies"], arr["volume_fraction"], radii=bound[index], region=arr["region"], rng=rng
-            )
-            # RSA packs bounding spheres; report the true sample radius for the bodies' volume.
-            sample_radius = layout.sample_radius
-            if sample_radius is not None:
-                body_volume = sum(c * pop.shape.volume for c, pop in zip(counts, pops, strict=True))
-                sample_radius = (3 * body_volume / (4 * math.pi * arr["volume_fraction"])) ** (1 / 3)
-        elif arr["kind"] == "cubic":
-            layout = cubic_lattice_sphere(
-                arr["spacing"] / length, arr["cut_radius"] / length, radius=bound[0]
-            )
-            index = np.zeros(layout.n_bodies, dtype=np.int64)
-            sample_radius = layout.sample_radius
+            scale = np.ones(len(index))
+            rot = np.zeros((len(index), 3, 3))
+            for i, p in enumerate(cfg.populations):
+                mine = np.flatnonzero(index == i)
+                if p["size_spread"]:
+                    scale[mine] = (
+                        lognormal_radii(mine.size, 1.0, p["size_spread"], rng=rng) if mine.size else 1.0
+                    )
+                rot[mine] = _orientations(p, mine.size, rng)
+            semi = semi0[index] * scale[:, None]
+            common = dict(semi_axes=semi, rotations=rot, region=region, rng=rng)
+            if region == "slab":
+                raise InputError("region: random packings fill a sphere, cube or periodic box", "region")
+            if kind == "random":
+                layout = random_sequential_addition(arr["n_bodies"], arr["volume_fraction"], **common)
+            else:
+                layout = dense_packing(
+                    arr["n_bodies"],
+                    arr["volume_fraction"],
+                    equilibration_sweeps=arr["equilibration_sweeps"],
+                    **common,
+                )
+            layout = layout.replace(labels=index.astype(np.int64))
+        elif kind == "file":
+            path = Path(arr["path"])
+            if not path.is_absolute() and cfg.source not in ("<config>", ""):
+                path = Path(cfg.source).parent / path
+            layout = read_arrangement(path, length_unit_m=length)
         else:
-            spacing = 2 * bound[0] + arr["gap"] / length
-            layout = chain(arr["n_bodies"], spacing, axis=arr["axis"], radius=bound[0])
-            index = np.zeros(layout.n_bodies, dtype=np.int64)
-            sample_radius = None
+            a = float(semi0[0, 0])
+            if kind == "cubic":
+                layout = cubic_lattice_sphere(arr["spacing"] / length, arr["cut_radius"] / length, radius=a)
+            elif kind == "lattice":
+                spec = (
+                    dict(lattice_constant=arr["spacing"] / length)
+                    if arr["spacing"] is not None
+                    else dict(volume_fraction=arr["volume_fraction"])
+                )
+                layout = lattice(
+                    arr["lattice"],
+                    radius=a,
+                    sample=region,
+                    size=None if arr["size"] is None else arr["size"] / length,
+                    cells=arr["cells"],
+                    **spec,
+                )
+            elif kind == "chain":
+                layout = chain(arr["n_bodies"], 2 * a + arr["gap"] / length, axis=arr["axis"], radius=a)
+            elif kind == "clustered":
+                layout = clustered(
+                    arr["n_bodies"],
+                    arr["volume_fraction"],
+                    cluster_size=arr["cluster_size"],
+                    fraction_clustered=arr["fraction_clustered"],
+                    kind=arr["cluster_kind"],
+                    radius=a,
+                    gap=arr["gap"] / length,
+                    local_fraction=arr["local_fraction"],
+                    region=region,
+                    rng=rng,
+                )
+            else:
+                layout = field_chains(
+                    arr["n_bodies"],
+                    arr["volume_fraction"],
+                    mean_length=arr["mean_length"],
+                    distribution=arr["length_distribution"],
+                    radius=a,
+                    gap=arr["gap"] / length,
+                    misalignment=arr["misalignment"],
+                    axis=arr["axis"],
+                    layout=arr["layout"],
+                    chains_per_group=arr["chains_per_group"],
+                    region=region,
+                    rng=rng,
+                )
+            layout = layout.replace(labels=np.zeros(layout.n_bodies, dtype=np.int64))
     except InputError as exc:
         key = f"arrangement.{exc.key}" if exc.key else "arrangement"
         raise ConfigError(f"arrangement: {exc}", key) from None
+    return layout
 
-    n = layout.n_bodies
-    rotations = np.broadcast_to(np.eye(3), (n, 3, 3)).copy()
-    for i, p in enumerate(cfg.populations):
-        if p["shape"] == "sphere":
-            continue
-        mine = np.flatnonzero(index == i)
-        if p["orientation"] == "aligned":
-            rotations[mine] = rotation_to_axis(p["axis"])
-        else:
-            rotations[mine] = _random_rotations(mine.size, rng)
 
+def build_scene(cfg) -> Scene:
+    """Build the :class:`Scene` a config describes (the same calls a Python user makes).
+
+    Lengths become reduced by the reference length (the volume-equivalent radius of
+    the first population, in metres, kept as ``scene.length_unit_m``).
+    """
+    length = reference_length(cfg)
+    layout = build_arrangement(cfg)
+    if layout.region == "periodic":
+        raise ConfigError(
+            "arrangement.region: a periodic box can be generated (dipolearray arrange) but not yet solved; "
+            "choose sphere or cube",
+            "arrangement.region",
+        )
     directions = cfg.field["directions"]
     if directions == "all":
         field = np.eye(3)
     else:
         field = np.array(directions, dtype=float)
         field /= np.linalg.norm(field, axis=1, keepdims=True)
-    return Scene(
-        positions=layout.positions,
-        populations=pops,
-        population_index=index.astype(np.int64),
-        host=Material(_eps(cfg.host["eps"], cfg.host["eps_loss"]), name=cfg.host["name"]),
-        field=field,
-        rotations=rotations,
-        sample_radius=sample_radius,
-        length_unit_m=length,
-        field_V_per_m=cfg.field["strength"],
-        check_overlap=True,
-    )
+    try:
+        return Scene.from_arrangement(
+            layout,
+            _populations(cfg, length),
+            host=Material(_eps(cfg.host["eps"], cfg.host["eps_loss"]), name=cfg.host["name"]),
+            field=field,
+            length_unit_m=length,
+            field_V_per_m=cfg.field["strength"],
+            check_overlap=True,
+        )
+    except InputError as exc:
+        if isinstance(exc, ConfigError):
+            raise
+        raise ConfigError(f"arrangement: {exc}", "arrangement") from None
 
 
 def output_path(cfg, override=None) -> Path:

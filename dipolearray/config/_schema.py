@@ -24,6 +24,8 @@ class Key:
 
 
 _NO = None
+ARRANGEMENT_KINDS = ("random", "dense", "lattice", "cubic", "chain", "clustered", "field_chains", "file")
+SPHERES_ONLY = ("lattice", "cubic", "chain", "clustered", "field_chains")
 OBSERVABLE_NAMES = (
     "local_field",
     "interior_field",
@@ -59,22 +61,111 @@ SECTIONS = {
             "float", 1.0, "share of the bodies in this population (normalised over populations)", minimum=0.0
         ),
         "orientation": Key(
-            "str", "aligned", "orientation of non-spherical bodies", choices=("aligned", "random")
+            "str",
+            "aligned",
+            "orientation of non-spherical bodies: all along axis, isotropic, or nematic about axis",
+            choices=("aligned", "random", "nematic"),
         ),
-        "axis": Key("vector", (0.0, 0.0, 1.0), "body z axis direction when aligned"),
+        "order_parameter": Key(
+            "float",
+            _NO,
+            "nematic order parameter <P2> about axis (orientation = nematic)",
+            minimum=-0.5,
+            maximum=1.0,
+        ),
+        "axis": Key("vector", (0.0, 0.0, 1.0), "body symmetry axis when aligned; director when nematic"),
+        "size_spread": Key(
+            "float",
+            0.0,
+            "lognormal spread of sizes, std of ln(size) (random, dense)",
+            minimum=0.0,
+            maximum=1.5,
+        ),
     },
     "arrangement": {
-        "kind": Key("str", "random", "generator", choices=("random", "cubic", "chain")),
-        "n_bodies": Key("int", 1000, "number of bodies (random, chain)", minimum=1, maximum=200000),
-        "volume_fraction": Key("float", 0.1, "filler volume fraction (random)", minimum=1e-6, maximum=0.3),
-        "region": Key("str", "sphere", "sample shape (random)", choices=("sphere", "cube")),
-        "seed": Key("int", 0, "random seed (random, and random orientations)", minimum=0),
-        "spacing": Key("length", _NO, "lattice constant (cubic)", minimum=0.0),
+        "kind": Key(
+            "str",
+            "random",
+            "generator: random sequential addition, dense packing, lattice, simple cubic sphere, straight "
+            "chain, clustered fillers, field-induced chains, or a microstructure file",
+            choices=ARRANGEMENT_KINDS,
+        ),
+        "n_bodies": Key(
+            "int",
+            1000,
+            "number of bodies (random, dense, chain, clustered, field_chains)",
+            minimum=1,
+            maximum=200000,
+        ),
+        "volume_fraction": Key(
+            "float",
+            0.1,
+            "filler volume fraction (random < 0.38, dense < 0.64, clustered, field_chains, lattice)",
+            minimum=1e-6,
+            maximum=0.74,
+        ),
+        "region": Key(
+            "str",
+            "sphere",
+            "sample shape; slab for lattices only; periodic boxes can be generated (dipolearray arrange) "
+            "but not yet solved",
+            choices=("sphere", "cube", "slab", "periodic"),
+        ),
+        "seed": Key("int", 0, "random seed (random generators and orientations)", minimum=0),
+        "equilibration_sweeps": Key(
+            "int", 0, "hard-body Monte Carlo sweeps after a dense packing (dense)", minimum=0, maximum=10**6
+        ),
+        "lattice": Key("str", "fcc", "lattice kind (lattice)", choices=("sc", "bcc", "fcc", "hcp", "bct")),
+        "spacing": Key(
+            "length", _NO, "lattice constant (cubic; lattice instead of volume_fraction)", minimum=0.0
+        ),
+        "size": Key(
+            "length", _NO, "sample radius, cube edge or slab thickness (lattice, not periodic)", minimum=0.0
+        ),
+        "cells": Key("int", 4, "conventional cells per axis (lattice, periodic)", minimum=1, maximum=200),
         "cut_radius": Key(
             "length", _NO, "radius of the spherical sample cut from the lattice (cubic)", minimum=0.0
         ),
-        "gap": Key("length", "0 m", "surface-to-surface gap between neighbours (chain)"),
-        "axis": Key("vector", (0.0, 0.0, 1.0), "chain direction (chain)"),
+        "gap": Key(
+            "length",
+            "0 m",
+            "surface gap between neighbours (chain, field_chains; sticking gap for clustered)",
+        ),
+        "axis": Key("vector", (0.0, 0.0, 1.0), "chain direction (chain, field_chains)"),
+        "cluster_kind": Key(
+            "str", "fractal", "cluster structure (clustered)", choices=("fractal", "compact")
+        ),
+        "cluster_size": Key("int", 20, "bodies per cluster (clustered)", minimum=2, maximum=100000),
+        "fraction_clustered": Key(
+            "float", 0.5, "share of bodies in clusters (clustered)", minimum=0.0, maximum=1.0
+        ),
+        "local_fraction": Key(
+            "float", 0.55, "packing fraction inside a compact cluster (clustered)", minimum=0.01, maximum=0.62
+        ),
+        "mean_length": Key("float", 10.0, "mean bodies per chain (field_chains)", minimum=1.0),
+        "length_distribution": Key(
+            "str",
+            "fixed",
+            "chain length distribution (field_chains)",
+            choices=("fixed", "geometric", "poisson"),
+        ),
+        "misalignment": Key(
+            "float",
+            0.0,
+            "standard deviation of chain tilt, degrees (field_chains)",
+            minimum=0.0,
+            maximum=90.0,
+        ),
+        "layout": Key(
+            "str",
+            "chains",
+            "single chains, sheets or columns (field_chains)",
+            choices=("chains", "sheets", "columns"),
+        ),
+        "chains_per_group": Key(
+            "int", 1, "chains per sheet or column (field_chains)", minimum=1, maximum=10000
+        ),
+        "path": Key("str", "", "CSV or extended XYZ microstructure, relative to the config (file)"),
     },
     "field": {
         "strength": Key("field", "1 V/um", "applied field strength |E0|"),
@@ -295,14 +386,49 @@ def parse_config(text: str, source: str = "<config>") -> RunConfig:
         n: _section(raw.get(n, {}), n, n) for n in ("run", "host", "arrangement", "field", "solver", "output")
     }
     arr = sections["arrangement"]
-    if arr["kind"] == "cubic":
-        for key in ("spacing", "cut_radius"):
-            if arr[key] is None:
-                raise ConfigError(f"arrangement.{key}: required for kind = 'cubic'", f"arrangement.{key}")
-    if arr["kind"] in ("cubic", "chain") and len(pops) > 1:
+    kind = arr["kind"]
+
+    def need(key, why):
+        if arr[key] is None or arr[key] == "":
+            raise ConfigError(
+                f"arrangement.{key}: required for kind = {kind!r} ({why})", f"arrangement.{key}"
+            )
+
+    if kind == "cubic":
+        need("spacing", "lattice constant")
+        need("cut_radius", "sample radius")
+    if kind == "lattice" and arr["region"] != "periodic":
+        need("size", "sample size")
+    if kind == "file":
+        need("path", "the microstructure file")
+    if kind in SPHERES_ONLY:
+        if len(pops) > 1:
+            raise ConfigError(
+                f"population: kind = {kind!r} takes one population, got {len(pops)}", "population"
+            )
+        if pops[0]["shape"] != "sphere":
+            raise ConfigError(
+                f"population[0].shape: kind = {kind!r} places spheres, got {pops[0]['shape']!r}",
+                "population[0].shape",
+            )
+    if arr["region"] == "slab" and kind != "lattice":
+        raise ConfigError("arrangement.region: 'slab' is for kind = 'lattice' only", "arrangement.region")
+    if arr["layout"] == "chains" and arr["chains_per_group"] != 1:
         raise ConfigError(
-            f"population: kind = {arr['kind']!r} takes one population, got {len(pops)}", "population"
+            "arrangement.chains_per_group: only layout 'sheets' or 'columns' groups chains",
+            "arrangement.chains_per_group",
         )
+    for i, p in enumerate(pops):
+        if p["orientation"] == "nematic" and p["order_parameter"] is None:
+            raise ConfigError(
+                f"population[{i}].order_parameter: required for orientation = 'nematic'",
+                f"population[{i}].order_parameter",
+            )
+        if p["size_spread"] and kind not in ("random", "dense"):
+            raise ConfigError(
+                f"population[{i}].size_spread: only kind 'random' or 'dense' spreads sizes",
+                f"population[{i}].size_spread",
+            )
     if arr["gap"] is not None and arr["gap"] < 0:
         raise ConfigError("arrangement.gap: must be >= 0", "arrangement.gap")
     if sections["solver"]["rtol"] == 0 and sections["solver"]["atol"] == 0:

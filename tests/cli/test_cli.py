@@ -103,3 +103,26 @@ def test_bundled_example_runs_end_to_end(tmp_path, capsys):
     mg = maxwell_garnett(3.1 - 0.012j, 40.0 - 0.4j, 0.15)
     eps_real = info["eps_eff_isotropic"][0]
     assert 3.1 < eps_real and abs(eps_real - mg.real) / mg.real < 0.03
+
+
+def test_arrange_describes_and_writes(tmp_path, capsys):
+    from dipolearray.arrange import read_arrangement
+
+    text = CFG.replace("n_bodies = 120", "n_bodies = 200\nkind = 'field_chains'\nmean_length = 6")
+    cfg = _write(tmp_path, text)
+    out = tmp_path / "fluid.csv"
+    assert main(["arrange", str(cfg), "--output", str(out), "--json"]) == EXIT_OK
+    info = json.loads(capsys.readouterr().out)
+    assert info["n_bodies"] == 200 and info["largest_cluster"] >= 6
+    # 34 chains (33 of six, one of two): 2 (200 - 34) contacts over 200 bodies.
+    assert abs(info["mean_coordination"] - 2 * (200 - 34) / 200) < 0.05
+    back = read_arrangement(out, length_unit_m=100e-9)
+    np.testing.assert_allclose(back.radii, 1.0, rtol=1e-12)
+    assert main(["arrange", str(cfg), "--output", str(out)]) == EXIT_BAD_INPUT
+    assert main(["arrange", str(cfg), "--contact-gap", "-1"]) == EXIT_BAD_INPUT
+    periodic = _write(
+        tmp_path, text.replace("volume_fraction = 0.1", "volume_fraction = 0.1\nregion = 'periodic'")
+    )
+    assert main(["arrange", str(periodic)]) == EXIT_OK
+    assert "periodic" in capsys.readouterr().out
+    assert main(["solve", str(periodic)]) == EXIT_BAD_INPUT
