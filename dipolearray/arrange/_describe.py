@@ -12,7 +12,7 @@ from scipy.spatial import cKDTree
 
 from .._validate import as_float_array, as_int, as_positive
 from ..errors import InputError
-from ._kernels import Bodies, contact_scales
+from ._kernels import Bodies, contact_scales, unwrap
 
 
 def _tree(arr):
@@ -103,16 +103,13 @@ def radial_distribution(arrangement, r_max, n_bins=100):
     if ref.size == 0:
         raise InputError(f"r_max: {rmax} leaves no body that far inside the sample; lower it", "r_max")
     edges = np.linspace(0.0, rmax, nb + 1)
-    counts = np.zeros(nb)
-    for chunk in np.array_split(ref, max(1, ref.size // 20000)):
-        nbrs = tree.query_ball_point(pos[chunk], rmax)
-        lens = np.array([len(x) for x in nbrs])
-        if lens.sum() == 0:
-            continue
-        jj = np.concatenate([np.asarray(x, dtype=np.int64) for x in nbrs])
-        ii = np.repeat(chunk, lens)
-        dist = np.linalg.norm(_min_image(pos[jj] - pos[ii], box), axis=1)
-        counts += np.histogram(dist[ii != jj], edges)[0]
+    pairs = tree.query_pairs(rmax, output_type="ndarray")
+    is_ref = np.zeros(arr.n_bodies, dtype=bool)
+    is_ref[ref] = True
+    dist = np.linalg.norm(_min_image(pos[pairs[:, 1]] - pos[pairs[:, 0]], box), axis=1)
+    # Each unordered pair counts once for every end that is a reference body.
+    weight = is_ref[pairs[:, 0]].astype(float) + is_ref[pairs[:, 1]]
+    counts = np.histogram(dist, edges, weights=weight)[0]
     rho = arr.n_bodies / volume
     shell = 4.0 / 3.0 * math.pi * (edges[1:] ** 3 - edges[:-1] ** 3)
     return 0.5 * (edges[1:] + edges[:-1]), counts / (ref.size * rho * shell)
@@ -196,12 +193,16 @@ class ClusterReport:
         the box onto its own image; open: reaches both opposite boundary layers).
     gap : float
         The connection threshold.
+    positions : (N, 3) ndarray
+        Centres with every cluster made contiguous (periodic boxes: unwrapped along a
+        spanning tree of the cluster; open samples: the positions as they are).
     """
 
     labels: np.ndarray
     sizes: np.ndarray
     percolating: np.ndarray
     gap: float
+    positions: np.ndarray
 
     @property
     def n_clusters(self) -> int:
@@ -246,8 +247,9 @@ def clusters(arrangement, gap):
     labels = rank[raw]
     sizes = sizes[order]
     perc = np.zeros((n_c, 3), dtype=bool)
+    unwrapped = pos
     if box is not None:
-        perc = _wrapping(graph, pairs, vec, labels, sizes, pos, box)
+        perc, unwrapped = _wrapping(pairs, vec, labels, sizes, pos, box)
     else:
         r = np.asarray(arr.radii, dtype=float)
         if arr.region == "sphere":
@@ -263,34 +265,36 @@ def clusters(arrangement, gap):
             np.minimum.at(lo_reach, labels, pos - r[:, None])
             np.maximum.at(hi_reach, labels, pos + r[:, None])
             perc = (lo_reach <= -hi + layer) & (hi_reach >= hi - layer)
-    return ClusterReport(labels, sizes, perc, g)
+    return ClusterReport(labels, sizes, perc, g, unwrapped)
 
 
-def _wrapping(graph, pairs, vec, labels, sizes, pos, box):
-    """Periodic percolation: a cluster wraps when unwrapping it along a spanning tree is inconsistent."""
+def _wrapping(pairs, vec, labels, sizes, pos, box):
+    """Periodic percolation: a cluster wraps when unwrapping it along a spanning tree is inconsistent.
+
+    One breadth-first search from a virtual root joined to one body of every cluster
+    gives a spanning forest; bodies are unwrapped along it, and an edge whose two ends
+    then differ by more than their minimum-image vector closes a loop around the box.
+    """
     n = pos.shape[0]
     n_c = sizes.size
     perc = np.zeros((n_c, 3), dtype=bool)
-    big = np.flatnonzero(sizes > 1)
-    if big.size == 0:
-        return perc
-    sym = graph + graph.T
-    unwrapped = np.zeros((n, 3))
-    seen = np.zeros(n, dtype=bool)
-    for c in big:
-        start = int(np.flatnonzero(labels == c)[0])
-        order, pred = breadth_first_order(sym, start, directed=False, return_predecessors=True)
-        unwrapped[start] = pos[start]
-        for node in order[1:]:
-            p = pred[node]
-            unwrapped[node] = unwrapped[p] + _min_image(pos[node] - pos[p], box)
-        seen[order] = True
+    if len(pairs) == 0:
+        return perc, pos
+    first = np.full(n_c, -1, dtype=np.int64)
+    first[labels[::-1]] = np.arange(n)[::-1]
     i, j = pairs[:, 0], pairs[:, 1]
+    rows = np.concatenate([i, j, np.full(n_c, n), first])
+    cols = np.concatenate([j, i, first, np.full(n_c, n)])
+    sym = coo_matrix((np.ones(rows.size), (rows, cols)), shape=(n + 1, n + 1)).tocsr()
+    order, pred = breadth_first_order(sym, n, directed=False, return_predecessors=True)
+    order = order[1:]
+    pred = np.where(pred[:n] == n, -1, pred[:n])
+    unwrapped = unwrap(order, pred, pos, box)
     shift = np.rint((unwrapped[j] - unwrapped[i] - vec) / box).astype(np.int64)
     bad = np.abs(shift) > 0
     for k in range(3):
         perc[np.unique(labels[i[bad[:, k]]]), k] = True
-    return perc
+    return perc, unwrapped
 
 
 @dataclass(frozen=True)
@@ -332,24 +336,27 @@ def chains(arrangement, gap, axis=(0.0, 0.0, 1.0)):
     u = u / np.linalg.norm(u)
     rep = clusters(arr, gap)
     r = np.asarray(arr.radii, dtype=float)
-    tree, pos, box = _tree(arr)
+    p = rep.positions
+    lab = rep.labels
+    n_c = rep.n_clusters
     multi = np.flatnonzero(rep.sizes > 1)
     sizes = rep.sizes[multi]
-    lengths = np.zeros(multi.size)
-    align = np.zeros(multi.size)
-    order = np.argsort(rep.labels, kind="stable")
-    bounds = np.concatenate([[0], np.cumsum(np.bincount(rep.labels, minlength=rep.n_clusters))])
-    for k, c in enumerate(multi):
-        members = order[bounds[c] : bounds[c + 1]]
-        p = pos[members]
-        if box is not None:
-            p = p[0] + _min_image(p - p[0], box)
-        p = p - p.mean(axis=0)
-        proj = p @ u
-        lengths[k] = float(proj.max() - proj.min() + 2.0 * r[members].mean())
-        if box is not None and rep.percolating[c] @ np.abs(u) > 0.5:
-            lengths[k] = float(np.abs(box) @ np.abs(u))
-        w, v = np.linalg.eigh(p.T @ p)
-        align[k] = abs(float(v[:, -1] @ u))
+    proj = p @ u
+    lo = np.full(n_c, np.inf)
+    hi = np.full(n_c, -np.inf)
+    np.minimum.at(lo, lab, proj)
+    np.maximum.at(hi, lab, proj)
+    rsum = np.bincount(lab, weights=r, minlength=n_c)
+    cnt = np.bincount(lab, minlength=n_c).astype(float)
+    lengths = (hi - lo + 2.0 * rsum / cnt)[multi]
+    if arr.region == "periodic":
+        wraps = rep.percolating[multi] @ (np.abs(u) > 0.5)
+        lengths = np.where(wraps, float(np.abs(np.asarray(arr.box)) @ np.abs(u)), lengths)
+    mean = np.stack([np.bincount(lab, weights=p[:, k], minlength=n_c) for k in range(3)], 1) / cnt[:, None]
+    d = p - mean[lab]
+    gyr = np.zeros((n_c, 3, 3))
+    np.add.at(gyr, lab, d[:, :, None] * d[:, None, :])
+    _, vecs = np.linalg.eigh(gyr[multi])
+    align = np.abs(vecs[:, :, -1] @ u)
     s2 = float(np.sum(sizes * (1.5 * align**2 - 0.5)) / sizes.sum()) if sizes.size else 0.0
     return ChainReport(sizes, lengths, align, s2, float(sizes.sum() / arr.n_bodies))

@@ -20,6 +20,7 @@ from ._hard import (
     pair_contact_scales,
     pw_max,
     rsa_fill,
+    unwrap_tree,
 )
 
 __all__ = [
@@ -36,6 +37,7 @@ __all__ = [
     "contact_scales",
     "aggregate",
     "groups",
+    "unwrap",
 ]
 
 KINDS = {"periodic": 0, "cube": 1, "sphere": 2}
@@ -314,3 +316,16 @@ def groups(offsets, starts, radii, kind, edges, rotate, spin_axis, rng, max_fail
             rot,
         )
     return pos, rot, g
+
+
+def unwrap(order, pred, positions, box):
+    """Positions unwrapped along a breadth-first tree (``pred < 0`` marks the roots)."""
+    out = np.empty_like(positions, dtype=np.float64)
+    unwrap_tree(
+        np.ascontiguousarray(order, dtype=np.int64),
+        np.ascontiguousarray(pred, dtype=np.int64),
+        np.ascontiguousarray(positions, dtype=np.float64),
+        np.ascontiguousarray(box, dtype=np.float64),
+        out,
+    )
+    return out

@@ -579,3 +579,17 @@ def pair_contact_scales(i, j, d, bnd, q6, sph, out):
         else:
             f, _ = pw_max(d[k, 0], d[k, 1], d[k, 2], q6[a], q6[b])
             out[k] = math.sqrt(f)
+
+
+@numba.njit(**JIT)
+def unwrap_tree(order, pred, pos, box, out):
+    """Unwrap positions along a breadth-first tree: each node sits at its parent plus the minimum image."""
+    for k in range(order.shape[0]):
+        node = order[k]
+        p = pred[node]
+        if p < 0:
+            for q in range(3):
+                out[node, q] = pos[node, q]
+        else:
+            for q in range(3):
+                out[node, q] = out[p, q] + _min_image(pos[node, q] - pos[p, q], box[q])
