@@ -29,6 +29,7 @@ def add_arguments(p):
         help="surface gap, in units of the mean radius, below which bodies count as touching (default 0.01)",
     )
     p.add_argument("--json", action="store_true", help="print the descriptors as JSON")
+    p.add_argument("--quiet", action="store_true", help="no progress bar")
 
 
 def describe(arr, contact_gap):
@@ -65,8 +66,14 @@ def run(args) -> int:
 
     if not args.contact_gap >= 0:
         raise InputError(f"--contact-gap: must be >= 0, got {args.contact_gap}", "contact-gap")
+    from ._progress import StageBar
+
     cfg = load_config(args.config)
-    arr = build_arrangement(cfg)
+    stages = StageBar(enabled=not args.quiet and not args.json)
+    try:
+        arr = build_arrangement(cfg, progress=stages)
+    finally:
+        stages.close()
     info = describe(arr, args.contact_gap)
     length = reference_length(cfg)
     info["reference_length_m"] = length

@@ -78,8 +78,10 @@ def run(args) -> int:
     """Run ``solve``."""
     from ..config import load_config, run_config
     from ._main import EXIT_NOT_CONVERGED, EXIT_OK
+    from ._progress import StageBar
 
     cfg = load_config(args.config)
+    stages = StageBar(enabled=not args.quiet and not args.json)
     bar = None
     callback = None
     if not args.quiet and not args.json:
@@ -99,8 +101,10 @@ def run(args) -> int:
             overwrite=args.overwrite,
             callback=callback,
             save_unconverged=args.save_unconverged,
+            progress=stages,
         )
     finally:
+        stages.close()
         if bar is not None:
             bar.close()
     info = summarize(sol, path)

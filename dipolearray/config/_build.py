@@ -90,11 +90,12 @@ def _orientations(p, n, rng):
     return orientations(n, "nematic", axis=p["axis"], order_parameter=p["order_parameter"], rng=rng)
 
 
-def build_arrangement(cfg):
+def build_arrangement(cfg, progress=None):
     """Generate (or read) the arrangement a config describes, in reduced units.
 
     Returns an :class:`~dipolearray.arrange.Arrangement` whose ``labels`` give each
     body's population and whose sizes are multiples of the population shapes.
+    ``progress(stage, done, total)`` is called during long generator work.
     """
     length = reference_length(cfg)
     arr = cfg.arrangement
@@ -128,6 +129,7 @@ def build_arrangement(cfg):
                     arr["n_bodies"],
                     arr["volume_fraction"],
                     equilibration_sweeps=arr["equilibration_sweeps"],
+                    progress=progress,
                     **common,
                 )
             layout = layout.replace(labels=index.astype(np.int64))
@@ -191,14 +193,14 @@ def build_arrangement(cfg):
     return layout
 
 
-def build_scene(cfg) -> Scene:
+def build_scene(cfg, progress=None) -> Scene:
     """Build the :class:`Scene` a config describes (the same calls a Python user makes).
 
     Lengths become reduced by the reference length (the volume-equivalent radius of
     the first population, in metres, kept as ``scene.length_unit_m``).
     """
     length = reference_length(cfg)
-    layout = build_arrangement(cfg)
+    layout = build_arrangement(cfg, progress=progress)
     if layout.region == "periodic":
         raise ConfigError(
             "arrangement.region: a periodic box can be generated (dipolearray arrange) but not yet solved; "
@@ -237,7 +239,9 @@ def output_path(cfg, override=None) -> Path:
     return Path("runs") / f"{safe}.h5"
 
 
-def run_config(cfg, *, output=None, overwrite=False, callback=None, save=True, save_unconverged=False):
+def run_config(
+    cfg, *, output=None, overwrite=False, callback=None, save=True, save_unconverged=False, progress=None
+):
     """Build, solve and store one config.
 
     Returns
@@ -252,7 +256,7 @@ def run_config(cfg, *, output=None, overwrite=False, callback=None, save=True, s
     path = output_path(cfg, output)
     if save and path.exists() and not overwrite:
         raise InputError(f"output: {path} exists; pass --overwrite to replace it", "output")
-    scene = build_scene(cfg)
+    scene = build_scene(cfg, progress=progress)
     s = cfg.solver
     sol = solve(
         scene,

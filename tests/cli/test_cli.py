@@ -126,3 +126,13 @@ def test_arrange_describes_and_writes(tmp_path, capsys):
     assert main(["arrange", str(periodic)]) == EXIT_OK
     assert "periodic" in capsys.readouterr().out
     assert main(["solve", str(periodic)]) == EXIT_BAD_INPUT
+
+
+def test_arrange_dense_shows_progress(tmp_path, capsys):
+    text = CFG.replace("n_bodies = 120", "n_bodies = 300\nkind = 'dense'\nequilibration_sweeps = 20").replace(
+        "volume_fraction = 0.1", "volume_fraction = 0.5\nregion = 'cube'"
+    )
+    assert main(["arrange", str(_write(tmp_path, text))]) == EXIT_OK
+    captured = capsys.readouterr()
+    assert "dense random packing" in captured.out and "20 Monte Carlo sweeps" in captured.out
+    assert "relax" in captured.err or "equilibrate" in captured.err  # the progress bar's stages
