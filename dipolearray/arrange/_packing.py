@@ -115,6 +115,20 @@ def _check_periodic(region, edges, bound):
         )
 
 
+def _setup(n_bodies, n_min, volume_fraction, limit, beyond, region, sizes):
+    """Checked common inputs of the packing generators and the region they fill."""
+    n = as_int(n_bodies, "n_bodies", minimum=n_min)
+    phi = as_positive(volume_fraction, "volume_fraction")
+    if phi >= limit:
+        raise InputError(f"volume_fraction: {phi} is beyond {beyond}; allowed < {limit}", "volume_fraction")
+    check_choice(region, "region", PACK_REGIONS)
+    semi, rot, bound = body_shapes(n, *sizes)
+    volume = float(np.sum(4.0 / 3.0 * math.pi * np.prod(semi, axis=1))) / phi
+    edges, R = _region_size(region, volume)
+    _check_periodic(region, edges, bound)
+    return n, phi, semi, rot, bound, edges, R
+
+
 def random_sequential_addition(
     n_bodies,
     volume_fraction,
@@ -166,34 +180,24 @@ def random_sequential_addition(
     >>> arr.region, round(arr.volume_fraction, 6)
     ('periodic', 0.2)
     """
-    n = as_int(n_bodies, "n_bodies", minimum=1)
-    phi = as_positive(volume_fraction, "volume_fraction")
-    if phi >= 0.5:
-        raise InputError(
-            f"volume_fraction: {phi} is beyond random sequential addition (allowed < 0.5; use dense_packing)",
-            "volume_fraction",
-        )
-    check_choice(region, "region", PACK_REGIONS)
+    n, phi, semi, rot, bound, edges, R = _setup(
+        n_bodies, 1, volume_fraction, 0.5, "random sequential addition (use dense_packing)", region,
+        (radius, radii, semi_axes, rotations),
+    )  # fmt: skip
     tries = as_int(max_attempts, "max_attempts", minimum=1)
-    semi, rot, bound = body_shapes(n, radius, radii, semi_axes, rotations)
     rng = np.random.default_rng(rng)
-    volume = float(np.sum(4.0 / 3.0 * math.pi * np.prod(semi, axis=1))) / phi
-    edges, R = _region_size(region, volume)
-    _check_periodic(region, edges, bound)
     if region != "periodic" and np.any(2 * bound > edges[0]):
         raise InputError("radii: a body is larger than the sample region", "radii")
     bodies = K.Bodies(semi, rot)
     order = np.argsort(-bound, kind="stable")
     grid = K.make_grid(region, edges, 2.0 * bound.max(), n)
-    pos_rows, placed, _ = K.addition(bodies, order, grid, 1.0, rng, tries)
+    pos, placed, _ = K.addition(bodies, order, grid, 1.0, rng, tries)
     if placed < n:
         raise InputError(
             f"volume_fraction: placed {placed} of {n} bodies, then {tries} trials in a row failed "
             f"at fraction {phi}; lower the fraction or use dense_packing",
             "volume_fraction",
         )
-    pos = np.empty((n, 3))
-    pos[order] = pos_rows
     desc = f"random sequential addition, {n} bodies, fraction {phi:g}, {region}"
     return _make_arrangement(pos, semi, rot, region, edges, R, desc)
 
@@ -295,31 +299,21 @@ def dense_packing(
     >>> round(arr.volume_fraction, 6)
     0.55
     """
-    n = as_int(n_bodies, "n_bodies", minimum=2)
-    phi = as_positive(volume_fraction, "volume_fraction")
-    if phi >= 0.74:
-        raise InputError(
-            f"volume_fraction: {phi} exceeds any packing of equal spheres (0.7405); allowed < 0.74",
-            "volume_fraction",
-        )
-    check_choice(region, "region", PACK_REGIONS)
+    n, phi, semi, rot, bound, edges, R = _setup(
+        n_bodies, 2, volume_fraction, 0.74, "any packing of equal spheres (0.7405)", region,
+        (radius, radii, semi_axes, rotations),
+    )  # fmt: skip
     n_eq = as_int(equilibration_sweeps, "equilibration_sweeps", minimum=0)
     steps = as_int(max_steps, "max_steps", minimum=1)
-    semi, rot, bound = body_shapes(n, radius, radii, semi_axes, rotations)
     rng = np.random.default_rng(rng)
-    volume = float(np.sum(4.0 / 3.0 * math.pi * np.prod(semi, axis=1))) / phi
-    edges, R = _region_size(region, volume)
-    _check_periodic(region, edges, bound)
     bodies = K.Bodies(semi, rot)
     step_max = 0.5 * float(semi.min())
     grid = K.make_grid(region, edges, 2.0 * bound.max() * (1 + 2 * _MARGIN) + 2.0 * step_max, n)
     order = np.argsort(-bound, kind="stable")
     s0 = min(1.0, (min(phi, 0.25) / phi) ** (1.0 / 3.0))
-    rows, placed, _ = K.addition(bodies.take(order), np.arange(n), grid, s0, rng, 100_000)
+    pos, placed, _ = K.addition(bodies, order, grid, s0, rng, 100_000)
     if placed < n:  # pragma: no cover - a quarter fraction always fits
         raise InputError(f"volume_fraction: could not seed {n} bodies", "volume_fraction")
-    pos = np.empty((n, 3))
-    pos[order] = rows
     if progress is not None:
         progress("seed", n, n)
     dmin = 2.0 * float(semi.min())

@@ -62,16 +62,6 @@ class Bodies:
             np.stack([q[:, 0, 0], q[:, 1, 1], q[:, 2, 2], q[:, 0, 1], q[:, 0, 2], q[:, 1, 2]], axis=1)
         )
 
-    def take(self, order):
-        """The same bodies reordered (row k is body ``order[k]``)."""
-        out = object.__new__(Bodies)
-        out.n = len(order)
-        out.bnd = np.ascontiguousarray(self.bnd[order])
-        out.inr = np.ascontiguousarray(self.inr[order])
-        out.sph = np.ascontiguousarray(self.sph[order])
-        out.q6 = np.ascontiguousarray(self.q6[order])
-        return out
-
 
 def body_arrays(semi_axes, rotations=None) -> Bodies:
     """Shape arrays for the kernels."""
@@ -106,9 +96,9 @@ def make_grid(kind, edges, cell_min, n_bodies) -> Grid:
 def addition(bodies, order, grid, scale, rng, max_fails, chunk=65536, progress=None, max_total=None):
     """Random sequential addition of ``bodies`` in ``order``; returns ``(positions, placed, attempts)``.
 
-    ``positions`` rows follow ``order``; ``placed`` is the number of rows placed before
+    ``positions`` rows are bodies; ``placed`` is how many of ``order`` were placed before
     ``max_fails`` consecutive trials failed (or ``max_total`` trials in all were spent).
-    ``attempts[k]`` is the trial index that placed row k (for addition kinetics).
+    ``attempts[k]`` is the trial index that placed ``order[k]`` (for addition kinetics).
     """
     b = bodies
     n = len(order)

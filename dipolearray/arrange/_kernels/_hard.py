@@ -234,10 +234,10 @@ def is_clear(x, y, z, i, s, pos, bnd, inr, q6, sph, geo_f, geo_i, head, nxt):
 def rsa_fill(pos, order, start, s, bnd, inr, q6, sph, geo_f, geo_i, head, nxt, uni, fails, max_fails, at):
     """Random sequential addition of bodies ``order[start:]`` from the uniforms ``uni (M, 3)``.
 
-    ``pos`` rows are in placement order (row k holds body ``order[k]``) so the cell list
-    covers rows ``< k``. ``at[k]`` receives the attempt index (into ``uni``) that placed
-    row k. Returns ``(rows placed, uniforms used, consecutive failures)``; stops when
-    ``uni`` runs out or ``fails`` reaches ``max_fails``.
+    ``pos`` rows are bodies; the cell list holds the bodies placed so far (``order[:k]``).
+    ``at[k]`` receives the attempt index (into ``uni``) that placed ``order[k]``. Returns
+    ``(bodies placed, uniforms used, consecutive failures)``; stops when ``uni`` runs out
+    or ``fails`` reaches ``max_fails``.
     """
     n = order.shape[0]
     k = start
@@ -267,62 +267,20 @@ def rsa_fill(pos, order, start, s, bnd, inr, q6, sph, geo_f, geo_i, head, nxt, u
             z = (2.0 * u2 - 1.0) * lim
             if x * x + y * y + z * z > lim * lim:
                 continue
-        ok = _clear_row(x, y, z, b, s, pos, bnd, inr, q6, sph, order, geo_f, geo_i, head, nxt)
-        if ok:
-            pos[k, 0] = x
-            pos[k, 1] = y
-            pos[k, 2] = z
+        if is_clear(x, y, z, b, s, pos, bnd, inr, q6, sph, geo_f, geo_i, head, nxt):
+            pos[b, 0] = x
+            pos[b, 1] = y
+            pos[b, 2] = z
             c0, c1, c2 = _cell_of(x, y, z, geo_f, geo_i)
             c = (c0 * n1 + c1) * n2 + c2
-            nxt[k] = head[c]
-            head[c] = k
+            nxt[b] = head[c]
+            head[c] = b
             at[k] = used - 1
             k += 1
             fails = 0
         else:
             fails += 1
     return k, used, fails
-
-
-@numba.njit(**JIT)
-def _clear_row(x, y, z, b, s, pos, bnd, inr, q6, sph, order, geo_f, geo_i, head, nxt):
-    """Like :func:`is_clear` for rows in placement order (row j holds body ``order[j]``)."""
-    periodic = geo_i[0] == 0
-    L0 = geo_f[0]
-    L1 = geo_f[1]
-    L2 = geo_f[2]
-    n1 = geo_i[2]
-    n2 = geo_i[3]
-    c0, c1, c2 = _cell_of(x, y, z, geo_f, geo_i)
-    k0, x0, x1, x2 = _axis_cells(c0, geo_i[1], periodic)
-    k1, y0, y1, y2 = _axis_cells(c1, geo_i[2], periodic)
-    k2, z0, z1, z2 = _axis_cells(c2, geo_i[3], periodic)
-    for u in range(k0):
-        for v in range(k1):
-            for w in range(k2):
-                r = head[(_pick(u, x0, x1, x2) * n1 + _pick(v, y0, y1, y2)) * n2 + _pick(w, z0, z1, z2)]
-                while r >= 0:
-                    j = order[r]
-                    dx = pos[r, 0] - x
-                    dy = pos[r, 1] - y
-                    dz = pos[r, 2] - z
-                    if periodic:
-                        dx = _min_image(dx, L0)
-                        dy = _min_image(dy, L1)
-                        dz = _min_image(dz, L2)
-                    d2 = dx * dx + dy * dy + dz * dz
-                    lim = s * (bnd[b] + bnd[j])
-                    if d2 < lim * lim:
-                        if sph[b] and sph[j]:
-                            return False
-                        lin = s * (inr[b] + inr[j])
-                        if d2 < lin * lin:
-                            return False
-                        f, _ = pw_max(dx, dy, dz, q6[b], q6[j])
-                        if f < s * s:
-                            return False
-                    r = nxt[r]
-    return True
 
 
 @numba.njit(**JIT)
