@@ -76,6 +76,49 @@ def _cross_section(n_chains, layout, lateral):
     return ij * lateral, (ij.sum(axis=1) % 2).astype(float)
 
 
+def _check_spanning(region, u, distribution, tilt_deg):
+    if region != "periodic":
+        raise InputError("spanning: box-spanning chains need region = 'periodic'", "spanning")
+    if abs(abs(u[2]) - np.linalg.norm(u)) > 1e-12:
+        raise InputError("axis: box-spanning chains run along z, give axis = (0, 0, 1)", "axis")
+    if distribution != "fixed":
+        raise InputError(
+            "distribution: box-spanning chains all have mean_length bodies ('fixed')", "distribution"
+        )
+    if tilt_deg:
+        raise InputError("misalignment: box-spanning chains are straight (0)", "misalignment")
+
+
+def _spanning_chains(n, a, g, volume_fraction, mean_length, layout, per, rng):
+    k = int(round(float(mean_length)))
+    if n % k:
+        raise InputError(f"n_bodies: {n} is not a whole number of chains of {k}", "n_bodies")
+    spacing = 2 * a + g
+    phi = as_positive(volume_fraction, "volume_fraction")
+    Lz = k * spacing
+    Lx = math.sqrt(n * 4.0 / 3.0 * math.pi * a**3 / phi / Lz)
+    lateral = spacing if layout == "sheets" else math.sqrt(3.0) * (a + g / 2)
+    n_chains = n // k
+    groups, ids = [], []
+    for first in range(0, n_chains, per):
+        m = min(per, n_chains - first)
+        xy, stagger = _cross_section(m, layout, lateral)
+        members = []
+        for c in range(m):
+            z = (np.arange(k) + 0.5 * stagger[c]) * spacing
+            members.append(np.column_stack([np.full(k, xy[c, 0]), np.full(k, xy[c, 1]), z]))
+            ids.append(np.full(k, first + c))
+        groups.append(np.concatenate(members))
+    arr = place_groups(
+        groups, a, phi, region="periodic", rotate=(0.0, 0.0, 1.0), rng=rng, box_aspect=(Lx, Lx, Lz), wrap=True
+    )
+    desc = (
+        f"{n_chains} box-spanning chains of {k}, layout {layout}, {n} bodies, fraction {phi:g}, "
+        f"periodic {Lx:.4g} x {Lx:.4g} x {Lz:.4g}"
+    )
+    return arr.replace(groups=np.concatenate(ids), description=desc)
+
+
 def field_chains(
     n_bodies,
     volume_fraction,
@@ -90,6 +133,7 @@ def field_chains(
     chains_per_group=1,
     region="sphere",
     rng=None,
+    spanning=False,
 ):
     """Chains of spheres along the field, as an electrorheological fluid forms them under a field.
 
@@ -123,6 +167,11 @@ def field_chains(
         Chains per sheet or column (1 for single chains).
     region : {"sphere", "cube", "periodic"}
     rng : numpy.random.Generator or int, optional
+    spanning : bool
+        Chains that close on themselves across a periodic box (infinite chains, the
+        electrode-to-electrode chains of a saturated fluid): the box is stretched along z
+        to exactly ``mean_length`` spacings, and needs ``region="periodic"``,
+        ``axis`` along z, ``distribution="fixed"`` and no misalignment.
 
     Returns
     -------
@@ -153,6 +202,9 @@ def field_chains(
     rng = np.random.default_rng(rng)
     spacing = 2 * a + g
     check_choice(region, "region", PACK_REGIONS)
+    if spanning:
+        _check_spanning(region, u, distribution, tilt_deg)
+        return _spanning_chains(n, a, g, volume_fraction, mean_length, layout, per, rng)
     edges, _ = _region_size(
         region, n * 4.0 / 3.0 * math.pi * a**3 / as_positive(volume_fraction, "volume_fraction")
     )

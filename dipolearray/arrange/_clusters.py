@@ -115,7 +115,16 @@ def _compact_offsets(size, radius, local_fraction, rng):
 
 
 def place_groups(
-    group_offsets, radius, volume_fraction, *, region="sphere", rotate=True, rng=None, max_attempts=100_000
+    group_offsets,
+    radius,
+    volume_fraction,
+    *,
+    region="sphere",
+    rotate=True,
+    rng=None,
+    max_attempts=100_000,
+    box_aspect=None,
+    wrap=False,
 ):
     """Place rigid groups of equal spheres (and single spheres) at random, without overlap.
 
@@ -137,6 +146,11 @@ def place_groups(
     rng : numpy.random.Generator or int, optional
     max_attempts : int
         Consecutive failed trials before giving up (an error naming ``volume_fraction``).
+    box_aspect : (3,) array_like, optional
+        Edge ratios of a periodic box (default a cube).
+    wrap : bool
+        Let groups reach around a periodic box onto their own images (groups built to
+        join themselves across the boundary, such as box-spanning chains).
 
     Returns
     -------
@@ -155,9 +169,14 @@ def place_groups(
     n = int(starts[-1])
     volume = n * 4.0 / 3.0 * math.pi * a**3 / phi
     edges, R = _region_size(region, volume)
+    if box_aspect is not None:
+        if region != "periodic":
+            raise InputError("box_aspect: only a periodic box takes an aspect", "box_aspect")
+        asp = np.asarray(box_aspect, dtype=float)
+        edges = asp * (volume / float(np.prod(asp))) ** (1.0 / 3.0)
     reach = max(float(np.linalg.norm(o, axis=1).max()) + a for o in offs)
-    _check_periodic(region, edges, np.array([a]))
-    if region == "periodic" and reach > edges[0] / 2:
+    _check_periodic(region, np.array([edges.min()]), np.array([a]))
+    if region == "periodic" and not wrap and reach > edges.min() / 2:
         raise InputError(
             f"volume_fraction: the sample (edge {edges[0]:.3g}) is too small for groups reaching "
             f"{reach:.3g}; add bodies or lower the fraction",

@@ -185,6 +185,7 @@ def build_arrangement(cfg, progress=None):
                     chains_per_group=arr["chains_per_group"],
                     region=region,
                     rng=rng,
+                    spanning=arr["spanning"],
                 )
             layout = layout.replace(labels=np.zeros(layout.n_bodies, dtype=np.int64))
     except InputError as exc:

@@ -14,7 +14,7 @@ from ..errors import ConfigError
 class Key:
     """Declaration of one config key."""
 
-    kind: str  # "str", "int", "float", "length", "field", "vector", "list[str]", "length3", "directions"
+    kind: str  # str, bool, int, float, length, field, vector, list[str], length3, directions
     default: object
     doc: str
     choices: tuple = ()
@@ -162,6 +162,9 @@ SECTIONS = {
             "single chains, sheets or columns (field_chains)",
             choices=("chains", "sheets", "columns"),
         ),
+        "spanning": Key(
+            "bool", False, "chains close on themselves across a periodic box (field_chains, periodic)"
+        ),
         "chains_per_group": Key(
             "int", 1, "chains per sheet or column (field_chains)", minimum=1, maximum=10000
         ),
@@ -251,6 +254,10 @@ def _check_value(value, key: Key, where: str):
             raise ConfigError(
                 f"{where}: {value!r} is not allowed (choose from {', '.join(key.choices)}){extra}", where
             )
+        return value
+    if k == "bool":
+        if not isinstance(value, bool):
+            raise ConfigError(f"{where}: expected true or false, got {value!r}", where)
         return value
     if k == "int":
         if isinstance(value, bool) or not isinstance(value, int):

@@ -113,3 +113,22 @@ def test_sheets_and_columns(layout):
         assert len(set(rep.labels[group])) == 1
     with pytest.raises(da.InputError, match="chains_per_group"):
         field_chains(100, 0.1, mean_length=10, chains_per_group=3)
+
+
+@pytest.mark.parametrize("layout", ["chains", "columns"])
+def test_box_spanning_chains_percolate_along_the_field_only(layout):
+    per = 1 if layout == "chains" else 4
+    arr = field_chains(
+        480, 0.1, mean_length=12, layout=layout, chains_per_group=per, region="periodic", spanning=True, rng=3
+    )
+    assert arr.box[2] == pytest.approx(24.0) and arr.volume_fraction == pytest.approx(0.1)
+    assert _no_overlap(arr)
+    rep = clusters(arr, gap=1e-7)
+    assert rep.n_clusters == 40 // per
+    np.testing.assert_array_equal(rep.percolates, [False, False, True])
+    ch = chains(arr, gap=1e-7)
+    np.testing.assert_allclose(ch.lengths, 24.0)
+    with pytest.raises(da.InputError, match="spanning"):
+        field_chains(480, 0.1, mean_length=12, spanning=True)
+    with pytest.raises(da.InputError, match="n_bodies"):
+        field_chains(100, 0.1, mean_length=12, region="periodic", spanning=True)
