@@ -42,6 +42,11 @@ CATALOGUE = {
         random_sequential_addition(100, 0.15, rng=4).positions, eps=1.0, eps_host=4.0
     ),
     "dense_high_contrast": _dense_high_contrast,
+    "periodic_random": lambda: da.Scene.from_arrangement(
+        random_sequential_addition(60, 0.2, region="periodic", rng=6),
+        da.Population(da.Sphere(1.0), da.Material(9.0 - 1.0j)),
+        host=da.Material(2.0),
+    ),
 }
 
 #: Scenes on which the plain fixed-point iteration is expected to diverge.

@@ -55,8 +55,12 @@ def summarize(sol, path):
         "wall_s": round(sol.wall_s, 4),
         "output": str(path) if path else None,
     }
-    if scene.sample_radius:
-        phi = float(scene.volumes.sum() / (4 / 3 * np.pi * scene.sample_radius**3))
+    if scene.sample_radius or scene.boundary == "periodic":
+        volume = (
+            np.prod(scene.box) if scene.boundary == "periodic" else 4 / 3 * np.pi * scene.sample_radius**3
+        )
+        phi = float(scene.volumes.sum() / volume)
+        out["boundary"] = scene.boundary
         out["volume_fraction"] = round(phi, 6)
         eff = effective_permittivity(sol)
         iso = complex(eff.isotropic)
@@ -119,7 +123,8 @@ def run(args) -> int:
         print(f"  why: {sol.method_reason}")
         if "eps_eff_isotropic" in info:
             re, loss = info["eps_eff_isotropic"]
-            print(f"effective permittivity (spherical sample, isotropic part): {re:.5g} - j {loss:.4g}")
+            what = "bulk, periodic box" if info.get("boundary") == "periodic" else "spherical sample"
+            print(f"effective permittivity ({what}, isotropic part): {re:.5g} - j {loss:.4g}")
             if "eps_eff_tensor_real" in info:
                 rows = info["eps_eff_tensor_real"]
                 print("  tensor eps': " + "; ".join(" ".join(f"{v:9.5f}" for v in r) for r in rows))

@@ -202,12 +202,6 @@ def build_scene(cfg, progress=None) -> Scene:
     """
     length = reference_length(cfg)
     layout = build_arrangement(cfg, progress=progress)
-    if layout.region == "periodic":
-        raise ConfigError(
-            "arrangement.region: a periodic box can be generated (dipolearray arrange) but not yet solved; "
-            "choose sphere or cube",
-            "arrangement.region",
-        )
     directions = cfg.field["directions"]
     if directions == "all":
         field = np.eye(3)
@@ -270,6 +264,12 @@ def run_config(
     )
     if not save or (not sol.converged and not save_unconverged):
         return sol, None
-    names = [n for n in cfg.output["observables"] if n != "effective_permittivity" or scene.sample_radius]
+    periodic = scene.boundary == "periodic"
+    names = [
+        n
+        for n in cfg.output["observables"]
+        if (n != "effective_permittivity" or scene.sample_radius or periodic)
+        and not (periodic and n == "forces")
+    ]
     save_result(path, sol, observables=names, config_text=cfg.text, overwrite=overwrite)
     return sol, path

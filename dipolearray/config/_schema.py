@@ -107,8 +107,8 @@ SECTIONS = {
         "region": Key(
             "str",
             "sphere",
-            "sample shape; slab for lattices only; periodic boxes can be generated (dipolearray arrange) "
-            "but not yet solved",
+            "sample shape; slab for lattices only; periodic: a bulk box solved by Ewald summation "
+            "(conducting boundary, bulk effective permittivity)",
             choices=("sphere", "cube", "slab", "periodic"),
         ),
         "seed": Key("int", 0, "random seed (random generators and orientations)", minimum=0),

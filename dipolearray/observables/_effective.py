@@ -11,7 +11,7 @@ from ._fields import total_moment
 
 @dataclass(frozen=True)
 class EffectivePermittivity:
-    """Effective relative permittivity of a spherical sample.
+    """Effective relative permittivity of a spherical sample or of a periodic (bulk) box.
 
     Attributes
     ----------
@@ -19,15 +19,31 @@ class EffectivePermittivity:
         Full tensor when the applied fields span three dimensions.
     along_field : (K,) ndarray
         ``e^T eps_eff e`` along each applied field direction ``e``.
-    sample_radius : float
-        Radius used, reduced length.
+    sample_radius : float or None
+        Radius used, reduced length (``None`` for a periodic box).
     eps_host : complex or float
+    boundary : {"open", "periodic"}
     """
 
     tensor: np.ndarray | None
     along_field: np.ndarray
-    sample_radius: float
+    sample_radius: float | None
     eps_host: complex | float
+    boundary: str = "open"
+
+    @property
+    def loss_tangent(self):
+        """``eps''/eps'`` of the isotropic part (``eps = eps' - j eps''``)."""
+        iso = complex(self.isotropic)
+        return -iso.imag / iso.real
+
+    @property
+    def axes(self):
+        """Principal axes (columns) of the real symmetric part of the tensor."""
+        if self.tensor is None:
+            return None
+        sym = 0.5 * (self.tensor + self.tensor.T).real
+        return np.linalg.eigh(sym)[1]
 
     @property
     def isotropic(self):
@@ -48,7 +64,12 @@ class EffectivePermittivity:
 
 
 def effective_permittivity(sol, sample_radius=None):
-    """Effective permittivity of the spherical sample the bodies fill.
+    """Effective permittivity of the spherical sample the bodies fill, or of the bulk (periodic box).
+
+    For a periodic scene (conducting outer boundary, so the mean field is the applied
+    field ``E0``) the bulk tensor follows from the mean polarization,
+    ``eps = eps_h (I + 4 pi <P> / E0)`` with ``<P> = sum_i p_i / V`` column by column
+    (reduced units); ``sample_radius`` is not used.
 
     Parameters
     ----------
@@ -73,6 +94,8 @@ def effective_permittivity(sol, sample_radius=None):
     ----------
     Jackson, J. D. (1999). Classical Electrodynamics, 3rd ed., sec. 4.4 and 4.5.
     """
+    if sol.scene.boundary == "periodic":
+        return _bulk(sol)
     R = sample_radius if sample_radius is not None else sol.scene.sample_radius
     if R is None:
         raise InputError(
@@ -97,3 +120,22 @@ def effective_permittivity(sol, sample_radius=None):
         eye = np.eye(3)
         tensor = eh * np.linalg.solve(eye - B, eye + 2 * B)
     return EffectivePermittivity(tensor=tensor, along_field=np.array(along), sample_radius=R, eps_host=eh)
+
+
+def _bulk(sol):
+    scene = sol.scene
+    eh = scene.eps_host
+    V = float(np.prod(scene.box))
+    P = total_moment(sol) / V  # (3, K)
+    E = np.asarray(scene.field, dtype=float)  # (K, 3)
+    along = []
+    for k in range(E.shape[0]):
+        e = E[k] / np.linalg.norm(E[k])
+        along.append(eh * (1 + 4 * np.pi * (e @ P[:, k]) / np.linalg.norm(E[k])))
+    tensor = None
+    if E.shape[0] >= 3 and np.linalg.matrix_rank(E) == 3:
+        Xt, *_ = np.linalg.lstsq(E, P.T, rcond=None)
+        tensor = eh * (np.eye(3) + 4 * np.pi * Xt.T)
+    return EffectivePermittivity(
+        tensor=tensor, along_field=np.array(along), sample_radius=None, eps_host=eh, boundary="periodic"
+    )

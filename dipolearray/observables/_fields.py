@@ -82,6 +82,12 @@ def field_at(sol, points, operator=None):
         the field inside a body any better).
     """
     pts = as_float_array(points, "points", (None, 3))
+    if sol.scene.boundary != "open":
+        from ..errors import InputError
+
+        raise InputError(
+            "points: field maps of periodic scenes are not available yet (open scenes only)", "points"
+        )
     op = operator if operator is not None else make_operator(sol.scene)
     out = _applied(sol)[None, :, :] + op.field_at(pts, np.asarray(sol.moments))
     owner = inside_body(sol.scene, pts)

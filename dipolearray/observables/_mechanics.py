@@ -45,8 +45,13 @@ def forces(sol):
     Jackson, J. D. (1999). Classical Electrodynamics, 3rd ed., sec. 4.2 (energy and
     force of a dipole in an external field).
     """
+    from ..errors import InputError
     from ..operators._kernels import dipole_pair_forces
 
+    if sol.scene.boundary != "open":
+        raise InputError(
+            "forces: pair forces of periodic scenes are not available yet (open scenes only)", "forces"
+        )
     p = np.asarray(sol.moments)
     pos = sol.scene.positions
     if not _harmonic(sol):

@@ -36,7 +36,8 @@ _ENTRIES = [
         _eps_tensor,
         "(3, 3) or (K,)",
         "dimensionless",
-        "effective permittivity of the spherical sample (tensor when three fields are solved)",
+        "effective permittivity of the spherical sample, or of the bulk for a periodic box "
+        "(tensor when three fields are solved)",
     ),
 ]
 

@@ -18,6 +18,9 @@ InteractionOperator
     The contract.
 DirectOperator
     O(N^2) matrix-free numba kernel, parallel over targets; dense assembly for small N.
+EwaldOperator, ewald_parameters
+    Periodic orthorhombic box, Ewald summation with conducting (tin-foil) boundary;
+    parameters chosen for a requested accuracy.
 make_operator
     Build an operator for a scene by backend name (``"auto"`` records its choice).
 register_backend, available_backends
@@ -33,11 +36,14 @@ from ._base import (
     register_backend,
 )
 from ._direct import DirectOperator
+from ._ewald import EwaldOperator, ewald_parameters
 from ._threads import get_num_threads, set_num_threads
 
 __all__ = [
     "InteractionOperator",
     "DirectOperator",
+    "EwaldOperator",
+    "ewald_parameters",
     "make_operator",
     "register_backend",
     "available_backends",

@@ -24,7 +24,7 @@ def available_backends() -> tuple[str, ...]:
     return tuple(sorted(_BACKENDS))
 
 
-def make_operator(scene, backend: str = "auto") -> InteractionOperator:
+def make_operator(scene, backend: str = "auto", **options) -> InteractionOperator:
     """Build the interaction operator of ``scene``.
 
     Parameters
@@ -32,6 +32,8 @@ def make_operator(scene, backend: str = "auto") -> InteractionOperator:
     scene : Scene
     backend : str
         ``"auto"`` or one of :func:`available_backends`.
+    **options
+        Backend settings (``accuracy`` for ``"ewald"``).
 
     Returns
     -------
@@ -47,12 +49,16 @@ def make_operator(scene, backend: str = "auto") -> InteractionOperator:
     """
     check_choice(backend, "backend", ("auto",) + available_backends())
     if backend == "auto":
-        if scene.boundary != "open":  # pragma: no cover - only open exists so far
-            raise InputError(f"backend: no backend for boundary {scene.boundary!r} yet", "backend")
-        op = _BACKENDS["direct"](scene)
+        if scene.boundary == "periodic":
+            op = _BACKENDS["ewald"](scene, **options)
+            op.reason = "auto: periodic boundary; " + op.describe()
+            return op
+        op = _BACKENDS["direct"](scene, **options)
         op.reason = "auto: open boundary; direct O(N^2) kernel is the only open backend"
         return op
-    op = _BACKENDS[backend](scene)
+    if backend == "direct" and scene.boundary != "open":
+        raise InputError("backend: 'direct' sums an open boundary; periodic scenes use 'ewald'", "backend")
+    op = _BACKENDS[backend](scene, **options)
     op.reason = "requested"
     return op
 

@@ -7,7 +7,7 @@ from scipy.spatial import cKDTree
 _TOUCH_TOL = 1e-9
 
 
-def find_overlaps(positions, semi_axes, rotations, max_pairs=10):
+def find_overlaps(positions, semi_axes, rotations, max_pairs=10, box=None):
     """Index pairs of overlapping ellipsoids.
 
     Parameters
@@ -18,6 +18,8 @@ def find_overlaps(positions, semi_axes, rotations, max_pairs=10):
         Columns are the body axes in lab coordinates.
     max_pairs : int or None
         Stop after this many pairs (sorted by index); ``None`` for all.
+    box : (3,) ndarray of float, optional
+        Periodic box edges: pairs are tested at their minimum image.
 
     Returns
     -------
@@ -45,14 +47,23 @@ def find_overlaps(positions, semi_axes, rotations, max_pairs=10):
     if n < 2:
         return []
     bound = semi.max(axis=1)
-    tree = cKDTree(pos)
+    if box is not None:
+        L = np.asarray(box, dtype=float)
+        pos = np.mod(pos, L)
+        pos[pos >= L] = 0.0
+        tree = cKDTree(pos, boxsize=L)
+    else:
+        tree = cKDTree(pos)
     cand = tree.query_pairs(r=2.0 * bound.max(), output_type="ndarray")
     if cand.size == 0:
         return []
     i, j = cand[:, 0], cand[:, 1]
-    dist = np.linalg.norm(pos[i] - pos[j], axis=1)
+    dvec = pos[j] - pos[i]
+    if box is not None:
+        dvec -= L * np.round(dvec / L)
+    dist = np.linalg.norm(dvec, axis=1)
     keep = dist < (bound[i] + bound[j]) * (1.0 - _TOUCH_TOL)
-    i, j, dist = i[keep], j[keep], dist[keep]
+    i, j, dist, dvec = i[keep], j[keep], dist[keep], dvec[keep]
     is_sphere = np.ptp(semi, axis=1) <= 1e-12 * bound
     both_spheres = is_sphere[i] & is_sphere[j]
     overlap = np.zeros(i.shape, dtype=bool)
@@ -63,7 +74,7 @@ def find_overlaps(positions, semi_axes, rotations, max_pairs=10):
     test = ~both_spheres & ~sure
     if np.any(test):
         f = _contact_function_max(
-            pos[j[test]] - pos[i[test]],
+            dvec[test],
             semi[i[test]],
             rotations[i[test]],
             semi[j[test]],

@@ -13,7 +13,7 @@ from ..shapes import Ellipsoid, Sphere, Spheroid, interior_field_factors, polari
 from ._overlap import find_overlaps
 
 _SHAPES = (Sphere, Spheroid, Ellipsoid)
-BOUNDARIES = ("open",)
+BOUNDARIES = ("open", "periodic")
 
 
 @dataclass(frozen=True)
@@ -72,8 +72,11 @@ class Scene:
         Per-body multiplier of the population's semi-axes (polydispersity).
     rotations : (N, 3, 3) array_like of float, optional
         Per-body orientation; columns are the body axes in lab coordinates.
-    boundary : {"open"}
-        A finite sample in an infinite host.
+    boundary : {"open", "periodic"}
+        A finite sample in an infinite host, or a periodic box (Ewald summation,
+        conducting outer boundary) of edges ``box``.
+    box : (3,) array_like of float, optional
+        Edges of the orthorhombic periodic box (``boundary = "periodic"`` only).
     sample_radius : float, optional
         Radius of the spherical sample the bodies fill (reduced length), used to turn
         the total moment into an effective permittivity.
@@ -105,6 +108,7 @@ class Scene:
     length_unit_m: float | None = None
     field_V_per_m: float | None = None
     check_overlap: bool = True
+    box: np.ndarray | None = None
 
     def __post_init__(self):
         put = lambda k, v: object.__setattr__(self, k, v)  # noqa: E731
@@ -188,13 +192,32 @@ class Scene:
         put("rotations", _readonly(rot))
 
         check_choice(self.boundary, "boundary", BOUNDARIES)
+        if self.boundary == "periodic":
+            if self.box is None:
+                raise InputError("box: a periodic scene needs the box edges (3 lengths)", "box")
+            box = as_float_array(self.box, "box", (3,))
+            if np.any(box <= 0):
+                raise InputError(f"box: edges must be > 0, got {tuple(box)}", "box")
+            if 4.0 * float(self.semi_axes.max()) > float(box.min()):
+                raise InputError(
+                    f"box: the smallest edge {box.min():.4g} must be at least 4 bounding radii "
+                    f"({4.0 * float(self.semi_axes.max()):.4g}) for minimum-image overlap checks",
+                    "box",
+                )
+            put("box", _readonly(box))
+            if self.sample_radius is not None:
+                raise InputError(
+                    "sample_radius: a periodic scene has a box, not a sample radius", "sample_radius"
+                )
+        elif self.box is not None:
+            raise InputError("box: only boundary = 'periodic' takes a box", "box")
         for key in ("sample_radius", "length_unit_m", "field_V_per_m"):
             val = getattr(self, key)
             if val is not None:
                 put(key, as_positive(val, key))
 
         if self.check_overlap:
-            pairs = find_overlaps(self.positions, self.semi_axes, self.rotations, max_pairs=5)
+            pairs = find_overlaps(self.positions, self.semi_axes, self.rotations, max_pairs=5, box=self.box)
             if pairs:
                 i, j = pairs[0]
                 d = float(np.linalg.norm(self.positions[i] - self.positions[j]))
@@ -296,9 +319,10 @@ class Scene:
         ----------
         arrangement : Arrangement
         populations : Population or sequence of Population
-        boundary : {"open"}, optional
-            A periodic arrangement needs an explicit ``"open"`` (treat the box as a finite
-            cube sample) until periodic scenes exist.
+        boundary : {"open", "periodic"}, optional
+            Default: ``"periodic"`` (with the arrangement's box) for a periodic
+            arrangement, else ``"open"``. ``"open"`` on a periodic arrangement treats the
+            box as a finite cube sample.
         **kwargs
             Any other :class:`Scene` field (``host``, ``field``, ``length_unit_m``, ...).
 
@@ -313,12 +337,12 @@ class Scene:
         """
         arr = arrangement
         pops = (populations,) if isinstance(populations, Population) else tuple(populations)
-        if arr.region == "periodic" and boundary != "open":
-            raise InputError(
-                "boundary: the arrangement is a periodic box; pass boundary='open' to treat it as a finite "
-                "cube (periodic scenes are not available yet)",
-                "boundary",
-            )
+        if boundary is None:
+            boundary = "periodic" if arr.region == "periodic" else "open"
+        if boundary == "periodic":
+            if arr.box is None:
+                raise InputError("boundary: 'periodic' needs a periodic arrangement (with a box)", "boundary")
+            kwargs.setdefault("box", arr.box)
         n = arr.n_bodies
         index = np.zeros(n, dtype=np.int64) if arr.labels is None else np.asarray(arr.labels, dtype=np.int64)
         if index.size and (index.min() < 0 or index.max() >= len(pops)):
@@ -339,14 +363,15 @@ class Scene:
                 f"population's {tuple(shape[k])}",
                 "populations",
             )
-        kwargs.setdefault("sample_radius", arr.sample_radius)
+        if boundary == "open":
+            kwargs.setdefault("sample_radius", arr.sample_radius)
         return cls(
             positions=arr.positions,
             populations=pops,
             population_index=index,
             scale=scale,
             rotations=None if arr.rotations is None else arr.rotations,
-            boundary=boundary or "open",
+            boundary=boundary,
             **kwargs,
         )
 

@@ -16,6 +16,8 @@ METHODS = ("auto", "fixed_point", "cocg", "gmres", "direct")
 
 #: ``auto`` factors the dense matrix up to this many bodies (3N = 3000 unknowns).
 AUTO_DIRECT_MAX_BODIES = 1000
+#: Periodic scenes assemble the dense matrix by 3N Ewald applies, so direct pays off later.
+AUTO_DIRECT_MAX_PERIODIC = 150
 
 
 def solve(
@@ -172,6 +174,16 @@ def _choose(method, scene):
     if method != "auto":
         return method, "requested"
     n = scene.n_bodies
+    if scene.boundary == "periodic":
+        if n <= AUTO_DIRECT_MAX_PERIODIC:
+            return (
+                "direct",
+                f"auto: periodic N = {n} <= {AUTO_DIRECT_MAX_PERIODIC}, dense LU of the Ewald matrix",
+            )
+        return (
+            "cocg",
+            f"auto: periodic N = {n} > {AUTO_DIRECT_MAX_PERIODIC}, matrix-free COCG with Ewald applies",
+        )
     if n <= AUTO_DIRECT_MAX_BODIES:
         return "direct", f"auto: N = {n} <= {AUTO_DIRECT_MAX_BODIES}, dense LU is exact and fast"
     return "cocg", (f"auto: N = {n} > {AUTO_DIRECT_MAX_BODIES}, matrix-free COCG on the symmetrised system")

@@ -117,6 +117,7 @@ def _write(tmp, sol, computed, config_text):
         g.attrs["host_name"] = scene.host.name
         g.attrs["eps_host"] = complex(scene.eps_host)
         g.attrs["sample_radius"] = _nan(scene.sample_radius)
+        g.attrs["box"] = np.full(3, np.nan) if scene.box is None else np.asarray(scene.box, dtype=float)
         g.attrs["length_unit_m"] = _nan(scene.length_unit_m)
         g.attrs["field_V_per_m"] = _nan(scene.field_V_per_m)
         _dataset(g, "positions", scene.positions, "length", scene)
@@ -229,6 +230,7 @@ def load_result(path):
                 rotations=g["rotations"][...],
                 boundary=_str(g.attrs["boundary"]),
                 sample_radius=_opt(g.attrs["sample_radius"]),
+                box=_box(g.attrs.get("box")),
                 length_unit_m=_opt(g.attrs["length_unit_m"]),
                 field_V_per_m=_opt(g.attrs["field_V_per_m"]),
                 check_overlap=False,
@@ -304,3 +306,10 @@ def describe(path) -> str:
         if "config" in f:
             lines.append("config: stored")
     return "\n".join(lines)
+
+
+def _box(value):
+    if value is None:
+        return None
+    arr = np.asarray(value, dtype=float)
+    return None if np.all(np.isnan(arr)) else arr

@@ -5,7 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 FORMAT_NAME = "dipolearray.result"
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2
 
 
 @dataclass(frozen=True)
@@ -36,7 +36,15 @@ SCHEMA = (
         "permittivity sign convention and unit system (text)",
     ),
     Entry("/scene", "group", "", "", "", "the solved scene"),
-    Entry("/scene@boundary", "attr", "str", "", "", "'open'"),
+    Entry("/scene@boundary", "attr", "str", "", "", "'open' or 'periodic'"),
+    Entry(
+        "/scene@box",
+        "attr",
+        "float64",
+        "(3,)",
+        "length",
+        "periodic box edges (NaN for open; since version 2)",
+    ),
     Entry("/scene@host_name", "attr", "str", "", "", "host material label"),
     Entry("/scene@eps_host", "attr", "complex128", "", "1", "host relative permittivity"),
     Entry("/scene@sample_radius", "attr", "float64", "", "length", "sample radius (NaN if unset)"),

@@ -125,7 +125,11 @@ def test_arrange_describes_and_writes(tmp_path, capsys):
     )
     assert main(["arrange", str(periodic)]) == EXIT_OK
     assert "periodic" in capsys.readouterr().out
-    assert main(["solve", str(periodic)]) == EXIT_BAD_INPUT
+    out_h5 = tmp_path / "bulk.h5"
+    assert main(["solve", str(periodic), "--output", str(out_h5), "--json"]) == EXIT_OK
+    bulk = json.loads(capsys.readouterr().out)
+    assert bulk["boundary"] == "periodic" and abs(bulk["volume_fraction"] - 0.1) < 1e-9
+    assert bulk["eps_eff_isotropic"][0] > 2.5  # filler raises the host's 2.5
 
 
 def test_arrange_dense_shows_progress(tmp_path, capsys):

@@ -140,14 +140,13 @@ def test_every_generator_builds_a_valid_scene(arrangement):
     assert s.n_bodies > 10 and np.all(s.scale == 1.0)
 
 
-def test_periodic_generates_but_does_not_solve():
+def test_periodic_config_builds_a_periodic_scene():
     from dipolearray.config import build_arrangement
 
     cfg = _cfg("kind = 'lattice'\nlattice = 'fcc'\nvolume_fraction = 0.5\nregion = 'periodic'\ncells = 3")
     assert build_arrangement(cfg).n_bodies == 108
-    with pytest.raises(ConfigError, match="periodic") as info:
-        build_scene(cfg)
-    assert info.value.key == "arrangement.region"
+    s = build_scene(cfg)
+    assert s.boundary == "periodic" and s.box is not None and s.sample_radius is None
 
 
 def test_file_arrangement_relative_to_config(tmp_path):

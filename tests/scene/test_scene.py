@@ -135,7 +135,23 @@ def test_scene_from_arrangement():
     with pytest.raises(da.InputError, match="population"):
         da.Scene.from_arrangement(two, [pop, pop])
     box = random_sequential_addition(100, 0.1, region="periodic", rng=3)
-    with pytest.raises(da.InputError, match="boundary"):
-        da.Scene.from_arrangement(box, da.Population(da.Sphere(1.0), da.Material(7.0)))
+    s = da.Scene.from_arrangement(box, da.Population(da.Sphere(1.0), da.Material(7.0)))
+    assert s.boundary == "periodic" and np.array_equal(s.box, box.box) and s.sample_radius is None
     s = da.Scene.from_arrangement(box, da.Population(da.Sphere(1.0), da.Material(7.0)), boundary="open")
-    assert s.n_bodies == 100
+    assert s.n_bodies == 100 and s.box is None
+    with pytest.raises(da.InputError, match="boundary"):
+        da.Scene.from_arrangement(arr, pop, boundary="periodic")
+
+
+def test_periodic_scene_checks_box_and_overlaps_by_minimum_image():
+    with pytest.raises(da.InputError, match="box"):
+        da.Scene([[0, 0, 0]], POP, boundary="periodic")
+    with pytest.raises(da.InputError, match="box"):
+        da.Scene([[0, 0, 0]], POP, box=[10, 10, 10])
+    with pytest.raises(da.InputError, match="box"):
+        da.Scene([[0, 0, 0]], POP, boundary="periodic", box=[3, 10, 10])
+    # Across the boundary the bodies are 1.5 apart: an overlap only by minimum image.
+    with pytest.raises(OverlapError):
+        da.Scene([[0.25, 0, 0], [9.75, 0, 0]], POP, boundary="periodic", box=[10, 10, 10])
+    s = da.Scene([[0.25, 0, 0], [9.75, 0, 0]], POP)
+    assert s.boundary == "open"

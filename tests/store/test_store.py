@@ -160,3 +160,14 @@ def test_unknown_observable(tmp_path):
     with pytest.raises(da.InputError, match="observables"):
         save_result(tmp_path / "o.h5", _solution("isolated_sphere"), observables=["forcez"])
     assert not any(tmp_path.iterdir())
+
+
+def test_periodic_scene_round_trip(tmp_path):
+    sol = da.solve(CATALOGUE["periodic_random"](), rtol=1e-10)
+    path = da.save_result(tmp_path / "bulk.h5", sol, observables=["effective_permittivity", "local_field"])
+    back = da.load_result(path)
+    assert back.scene.boundary == "periodic"
+    np.testing.assert_array_equal(back.scene.box, sol.scene.box)
+    np.testing.assert_allclose(
+        da.effective_permittivity(back).tensor, da.effective_permittivity(sol).tensor, rtol=1e-14
+    )

@@ -9,12 +9,14 @@ from __future__ import annotations
 import numpy as np
 
 from ._dipole import assemble_dense, field_1, field_3, pair_forces
+from ._ewald import ewald_real, ewald_reciprocal
 from ._jit import get_num_threads, set_num_threads
 
 __all__ = [
     "dipole_field",
     "dense_coupling",
     "dipole_pair_forces",
+    "ewald_field",
     "set_num_threads",
     "get_num_threads",
 ]
@@ -89,3 +91,14 @@ def dipole_pair_forces(positions, moments):
     out = np.empty((3 * k, n))
     pair_forces(*_soa(positions), _rows(moments), out)
     return np.ascontiguousarray(out.reshape(k, 3, n).transpose(2, 1, 0))
+
+
+def ewald_field(op, moments):
+    """Ewald field at every body of an ``EwaldOperator`` from ``(N, 3, K)`` moments."""
+    p = np.ascontiguousarray(moments, dtype=np.float64)
+    out = np.empty_like(p)
+    ewald_real(op._pos, p, op.box, op.alpha, op.r_cut, op._cell_of, op._start, op._items, op._ncell, out)
+    ex, ey, ez = op._phases
+    ewald_reciprocal(ex, ey, ez, op._hkl, op._kvec, op._weight, p, out)
+    out += op._self * p
+    return out

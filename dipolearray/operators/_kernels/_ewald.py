@@ -1,0 +1,109 @@
+"""Ewald summation of the point-dipole field in an orthorhombic periodic box (tin-foil boundary).
+
+Real space: ``E(r) = -p B(r) + (p . r) C(r) r`` with
+``B = [erfc(a r) + 2 a r/sqrt(pi) exp(-a^2 r^2)] / r^3`` and
+``C = [3 erfc(a r) + 2 a r/sqrt(pi) (3 + 2 a^2 r^2) exp(-a^2 r^2)] / r^5``, minimum image,
+``r < r_c <= L/2``. Reciprocal space: ``E_i = -sum_k w_k k Re[exp(i k.r_i) A(k)]`` over half
+of k-space with ``w_k = 2 (4 pi/V) exp(-k^2/4a^2)/k^2`` and
+``A(k) = sum_j (k . p_j) exp(-i k.r_j)``. Self term ``+4 a^3/(3 sqrt(pi)) p_i``.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numba
+import numpy as np
+
+from ._jit import JIT, JIT_PARALLEL
+
+_TWO_OVER_SQRT_PI = 2.0 / math.sqrt(math.pi)
+
+
+@numba.njit(**JIT)
+def _axis_cells(c, n, out):
+    if n < 3:
+        for k in range(n):
+            out[k] = k
+        return n
+    out[0] = c - 1 if c > 0 else n - 1
+    out[1] = c
+    out[2] = c + 1 if c < n - 1 else 0
+    return 3
+
+
+@numba.njit(**JIT_PARALLEL)
+def ewald_real(pos, p, box, alpha, rc, cell_of, start, items, ncell, out):
+    """Real-space part at every body from every other body within ``rc`` (minimum image)."""
+    n = pos.shape[0]
+    kk = p.shape[2]
+    rc2 = rc * rc
+    a2 = alpha * alpha
+    for i in numba.prange(n):
+        ax = np.empty(3, np.int64)
+        ay = np.empty(3, np.int64)
+        az = np.empty(3, np.int64)
+        acc = np.zeros((3, kk))
+        nx = _axis_cells(cell_of[i, 0], ncell[0], ax)
+        ny = _axis_cells(cell_of[i, 1], ncell[1], ay)
+        nz = _axis_cells(cell_of[i, 2], ncell[2], az)
+        for u in range(nx):
+            for v in range(ny):
+                for w in range(nz):
+                    c = (ax[u] * ncell[1] + ay[v]) * ncell[2] + az[w]
+                    for s in range(start[c], start[c + 1]):
+                        j = items[s]
+                        if j == i:
+                            continue
+                        dx = pos[i, 0] - pos[j, 0]
+                        dy = pos[i, 1] - pos[j, 1]
+                        dz = pos[i, 2] - pos[j, 2]
+                        dx -= box[0] * math.floor(dx / box[0] + 0.5)
+                        dy -= box[1] * math.floor(dy / box[1] + 0.5)
+                        dz -= box[2] * math.floor(dz / box[2] + 0.5)
+                        r2 = dx * dx + dy * dy + dz * dz
+                        if r2 >= rc2:
+                            continue
+                        r = math.sqrt(r2)
+                        ar = alpha * r
+                        g = _TWO_OVER_SQRT_PI * ar * math.exp(-a2 * r2)
+                        e = math.erfc(ar)
+                        B = (e + g) / (r2 * r)
+                        C = (3.0 * e + g * (3.0 + 2.0 * a2 * r2)) / (r2 * r2 * r)
+                        for q in range(kk):
+                            pr = p[j, 0, q] * dx + p[j, 1, q] * dy + p[j, 2, q] * dz
+                            acc[0, q] += pr * C * dx - p[j, 0, q] * B
+                            acc[1, q] += pr * C * dy - p[j, 1, q] * B
+                            acc[2, q] += pr * C * dz - p[j, 2, q] * B
+        for c3 in range(3):
+            for q in range(kk):
+                out[i, c3, q] = acc[c3, q]
+
+
+@numba.njit(**JIT_PARALLEL)
+def ewald_reciprocal(ex, ey, ez, hkl, kvec, weight, p, out):
+    """Reciprocal-space part: ``ex[i, h + H] = exp(i 2 pi h x_i / L_x)`` (and y, z)."""
+    n = p.shape[0]
+    kk = p.shape[2]
+    m = hkl.shape[0]
+    A = np.zeros((m, kk), dtype=np.complex128)
+    for t in numba.prange(m):
+        h = hkl[t, 0]
+        k = hkl[t, 1]
+        l = hkl[t, 2]  # noqa: E741
+        kx = kvec[t, 0]
+        ky = kvec[t, 1]
+        kz = kvec[t, 2]
+        for i in range(n):
+            ph = ex[i, h] * ey[i, k] * ez[i, l]
+            cph = ph.conjugate()
+            for q in range(kk):
+                A[t, q] += (kx * p[i, 0, q] + ky * p[i, 1, q] + kz * p[i, 2, q]) * cph
+    for i in numba.prange(n):
+        for t in range(m):
+            ph = ex[i, hkl[t, 0]] * ey[i, hkl[t, 1]] * ez[i, hkl[t, 2]]
+            for q in range(kk):
+                s = weight[t] * (ph * A[t, q]).real
+                out[i, 0, q] -= s * kvec[t, 0]
+                out[i, 1, q] -= s * kvec[t, 1]
+                out[i, 2, q] -= s * kvec[t, 2]
