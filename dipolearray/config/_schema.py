@@ -351,8 +351,38 @@ class RunConfig:
     source: str
 
 
-def parse_config(text: str, source: str = "<config>") -> RunConfig:
-    """Check TOML ``text`` and return a :class:`RunConfig`.
+def apply_overrides(raw: dict, overrides: dict) -> dict:
+    """A copy of a parsed TOML mapping with dotted keys replaced.
+
+    ``{"arrangement.volume_fraction": 0.2, "population.0.eps": 30.0}`` sets those keys
+    (``population.0`` is the first ``[[population]]``); anything else in the mapping is
+    kept. Unknown sections or keys are caught later by the usual checks.
+    """
+    import copy
+
+    out = copy.deepcopy(raw)
+    for dotted, value in overrides.items():
+        parts = str(dotted).split(".")
+        node = out
+        for part in parts[:-1]:
+            if isinstance(node, list):
+                try:
+                    node = node[int(part)]
+                except (ValueError, IndexError):
+                    raise ConfigError(f"{dotted}: no entry {part!r} there", str(dotted)) from None
+            else:
+                nxt = node.setdefault(part, {})
+                if part == "population" and isinstance(nxt, dict):
+                    nxt = node[part] = [nxt]
+                node = nxt
+        if isinstance(node, list):
+            raise ConfigError(f"{dotted}: name a population by index, e.g. population.0.eps", str(dotted))
+        node[parts[-1]] = value
+    return out
+
+
+def parse_config(text: str, source: str = "<config>", overrides=None) -> RunConfig:
+    """Check TOML ``text`` (with optional dotted-key ``overrides``) and return a :class:`RunConfig`.
 
     Raises
     ------
@@ -363,6 +393,8 @@ def parse_config(text: str, source: str = "<config>") -> RunConfig:
         raw = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise ConfigError(f"{source}: not valid TOML ({exc})", "toml") from None
+    if overrides:
+        raw = apply_overrides(raw, overrides)
     for top in raw:
         if top not in SECTIONS:
             hint = nearest(top, SECTIONS)

@@ -6,6 +6,7 @@ import numpy as np
 import pytest
 
 import dipolearray as da
+from dipolearray.errors import ConfigError
 from dipolearray.sweep import RandomDispersion, comparison_table, load_sweep, run_sweep
 
 POINTS = [
@@ -82,3 +83,37 @@ def test_dask_workers_match_serial(tmp_path):
         tmp_path / "b.h5", MAKER, POINTS[:1], 3, solve_options=OPTS, workers=2, progress=False
     )
     np.testing.assert_allclose(parallel.tensors[0], serial.tensors[0], rtol=1e-12)
+
+
+CONFIG = """
+[host]
+eps = 2.0
+[[population]]
+shape = "spheroid"
+polar = "1 um"
+equatorial = "0.5 um"
+eps = 20.0
+orientation = "aligned"
+[arrangement]
+kind = "random"
+n_bodies = 60
+volume_fraction = 0.1
+region = "periodic"
+"""
+
+
+def test_config_sweep_over_aspect_ratio(tmp_path):
+    from dipolearray.mixing import maxwell_garnett_ellipsoids
+    from dipolearray.sweep import ConfigScene
+
+    points = [{"population.0.polar": "0.5 um"}, {"population.0.polar": "1.5 um"}]
+    res = run_sweep(
+        tmp_path / "aspect.h5", ConfigScene(CONFIG), points, 2, solve_options=OPTS, workers=0, progress=False
+    )
+    sphere, prolate = res.mean.real
+    np.testing.assert_allclose(np.diag(sphere), np.trace(sphere) / 3, rtol=0.03)
+    assert prolate[2, 2] > 1.15 * prolate[0, 0]  # aligned along z: anisotropic bulk
+    mg = maxwell_garnett_ellipsoids(2.0, 20.0, 0.1, 3.0, orientation="aligned")
+    np.testing.assert_allclose(np.diag(prolate), mg, rtol=0.05)
+    with pytest.raises(ConfigError, match="population"):
+        ConfigScene(CONFIG)({"population.x.eps": 3.0}, 1)
