@@ -19,12 +19,16 @@ build_arrangement, build_scene
     :class:`~dipolearray.scene.Scene`, a :class:`RunConfig` describes.
 run_config
     Build, solve and (optionally) store one config; returns the solution and path.
+ConfigScene
+    Picklable scene maker for sweeps: the config with dotted keys overridden per state
+    point (``{"population.0.polar": "1.5 um"}``).
 SECTIONS, config_markdown
     The key declarations and their rendering for the docs.
 """
 
 from ._build import build_arrangement, build_scene, run_config
 from ._schema import SECTIONS, RunConfig, config_markdown, load_config, parse_config
+from ._sweep import ConfigScene
 
 __all__ = [
     "load_config",
@@ -33,6 +37,7 @@ __all__ = [
     "build_arrangement",
     "build_scene",
     "run_config",
+    "ConfigScene",
     "SECTIONS",
     "config_markdown",
 ]

@@ -251,18 +251,28 @@ def load_sweep(path) -> SweepResult:
 
 
 def comparison_table(
-    result, *, fraction_key="volume_fraction", eps_inclusion_key="eps_inclusion", eps_host_key="eps_host"
+    result,
+    *,
+    fraction_key="volume_fraction",
+    eps_inclusion_key="eps_inclusion",
+    eps_host_key="eps_host",
+    reference=None,
 ):
     """Computed bulk permittivity against the mixing rules and bounds, point by point.
 
     Each row: the state point, computed isotropic eps' with its standard error, Maxwell
     Garnett, Bruggeman, Hashin-Shtrikman bounds, the finite-concentration correction
-    ``computed - MG`` and its significance ``(computed - MG) / SE``.
+    ``computed - MG`` and its significance ``(computed - MG) / SE``. With ``reference``
+    (a :class:`SweepResult` over the same points, e.g. the dispersed arrangement at
+    equal volume fraction for a clustered or chained one) also ``excess_over_reference``
+    and its significance over the combined standard error.
     """
     from ..mixing import bruggeman, hashin_shtrikman_bounds, maxwell_garnett
 
     rows = []
     means, ses = result.isotropic_mean, result.standard_error
+    if reference is not None and len(reference.points) != len(result.points):
+        raise InputError("reference: needs one state point per point of the result", "reference")
     for p, m, se in zip(result.points, means, ses, strict=True):
         phi = float(p[fraction_key])
         ei = float(p[eps_inclusion_key])
@@ -283,30 +293,11 @@ def comparison_table(
                 "significance": excess / float(np.real(se)) if np.real(se) > 0 else float("nan"),
             }
         )
+    if reference is not None:
+        for row, m_ref, se_ref in zip(rows, reference.isotropic_mean, reference.standard_error, strict=True):
+            diff = row["computed"] - float(np.real(m_ref))
+            comb = math.hypot(row["standard_error"], float(np.real(se_ref)))
+            row["reference"] = float(np.real(m_ref))
+            row["excess_over_reference"] = diff
+            row["significance_over_reference"] = diff / comb if comb > 0 else float("nan")
     return rows
-
-
-@dataclass(frozen=True)
-class ConfigScene:
-    """Scene maker from a TOML config: each state point overrides dotted config keys.
-
-    ``ConfigScene(text)({"arrangement.volume_fraction": 0.2, "population.0.polar": "1.5 um"}, seed)``
-    builds the config's scene with those keys replaced and ``arrangement.seed = seed``,
-    so any config parameter (fraction, contrast, aspect ratio, clustering, chain
-    length, ...) can be swept. Picklable (it holds only the text).
-
-    Attributes
-    ----------
-    text : str
-        The TOML config.
-    """
-
-    text: str
-
-    def __call__(self, point, seed):
-        """The scene of one realization."""
-        from ..config import build_scene, parse_config
-
-        overrides = dict(point)
-        overrides["arrangement.seed"] = int(seed) % (2**31)
-        return build_scene(parse_config(self.text, "<sweep>", overrides=overrides))

@@ -103,8 +103,8 @@ region = "periodic"
 
 
 def test_config_sweep_over_aspect_ratio(tmp_path):
+    from dipolearray.config import ConfigScene
     from dipolearray.mixing import maxwell_garnett_ellipsoids
-    from dipolearray.sweep import ConfigScene
 
     points = [{"population.0.polar": "0.5 um"}, {"population.0.polar": "1.5 um"}]
     res = run_sweep(
@@ -117,3 +117,18 @@ def test_config_sweep_over_aspect_ratio(tmp_path):
     np.testing.assert_allclose(np.diag(prolate), mg, rtol=0.05)
     with pytest.raises(ConfigError, match="population"):
         ConfigScene(CONFIG)({"population.x.eps": 3.0}, 1)
+
+
+def test_plot_and_reference_comparison(tmp_path):
+    from dipolearray.plots import plot_sweep
+
+    pts = [{"volume_fraction": v, "eps_inclusion": 15.0, "eps_host": 2.0} for v in (0.05, 0.15)]
+    res = run_sweep(tmp_path / "p.h5", MAKER, pts, 3, solve_options=OPTS, workers=0, progress=False)
+    png, svg = plot_sweep(res, tmp_path / "figs" / "sweep")
+    assert png.stat().st_size > 5000 and svg.read_text().startswith("<?xml")
+    same = comparison_table(res, reference=res)
+    assert all(r["excess_over_reference"] == 0 and r["significance_over_reference"] == 0 for r in same)
+    with pytest.raises(da.InputError, match="reference"):
+        comparison_table(
+            res, reference=load_sweep(tmp_path / "p.h5").__class__(pts[:1], res.tensors[:1], res.records[:1])
+        )
