@@ -17,7 +17,7 @@ METHODS = ("auto", "fixed_point", "cocg", "gmres", "direct")
 #: ``auto`` factors the dense matrix up to this many bodies (3N = 3000 unknowns).
 AUTO_DIRECT_MAX_BODIES = 1000
 #: Periodic scenes assemble the dense matrix by 3N Ewald applies, so direct pays off later.
-AUTO_DIRECT_MAX_PERIODIC = 150
+AUTO_DIRECT_MAX_PERIODIC = 64
 
 
 def solve(

@@ -101,3 +101,15 @@ def test_bounds_order_every_isotropic_rule(eh, ratio, phi, swap):
     assert maxwell_garnett(min(eh, ei), max(eh, ei), phi if ei > eh else 1 - phi) == pytest.approx(
         lo, rel=1e-9
     )
+
+
+def test_hand_checked_values():
+    """Values worked by hand from each formula (eps_h = 1, eps_i = 4 or 8, phi = 1/2)."""
+    assert float(maxwell_garnett(1.0, 4.0, 0.5)) == pytest.approx(2.0, rel=1e-14)  # beta 1/2
+    lo, hi = hashin_shtrikman_bounds(1.0, 4.0, 0.5)
+    assert (float(lo), float(hi)) == pytest.approx((2.0, 16.0 / 7.0), rel=1e-14)
+    assert float(bruggeman(1.0, 4.0, 0.5)) == pytest.approx((2.5 + np.sqrt(38.25)) / 4, rel=1e-14)
+    assert float(looyenga(1.0, 8.0, 0.5)) == pytest.approx(3.375, rel=1e-14)
+    assert float(lichtenecker(1.0, 4.0, 0.5)) == pytest.approx(2.0, rel=1e-14)
+    s, p = wiener_bounds(1.0, 4.0, 0.5)
+    assert (float(s), float(p)) == pytest.approx((1.6, 2.5), rel=1e-14)

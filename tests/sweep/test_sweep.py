@@ -64,7 +64,10 @@ def test_resume_keeps_finished_work(tmp_path):
     assert partial.n.sum() >= 4 + 1 and partial.n[1] < 4
     np.testing.assert_array_equal(partial.tensors[0][:2], first.tensors[0])
     done = run_sweep(path, MAKER, POINTS, 4, solve_options=OPTS, workers=0, progress=False)
-    assert list(done.n) == [4, 4]
+    assert list(done.n) == [4, 4]  # no duplicates: one group per realization
+    fresh = run_sweep(tmp_path / "fresh.h5", MAKER, POINTS, 4, solve_options=OPTS, workers=0, progress=False)
+    for i in range(2):
+        np.testing.assert_array_equal(done.tensors[i], fresh.tensors[i])  # identical to an uninterrupted run
     for i in range(2):
         np.testing.assert_array_equal(done.tensors[i][: len(partial.tensors[i])], partial.tensors[i])
     with pytest.raises(da.InputError, match="points"):
