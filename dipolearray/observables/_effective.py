@@ -39,7 +39,7 @@ class EffectivePermittivity:
 
     @property
     def axes(self):
-        """Principal axes (columns) of the real symmetric part of the tensor."""
+        """Principal axes (columns, ascending like ``eigenvalues``) of the real symmetric part."""
         if self.tensor is None:
             return None
         sym = 0.5 * (self.tensor + self.tensor.T).real
@@ -54,12 +54,12 @@ class EffectivePermittivity:
 
     @property
     def eigenvalues(self):
-        """Principal values of the tensor (``None`` without a tensor)."""
+        """Principal values of the tensor, ascending in their real part (``None`` without a tensor)."""
         if self.tensor is None:
             return None
         sym = 0.5 * (self.tensor + self.tensor.T)
         if np.iscomplexobj(sym):
-            return np.linalg.eigvals(sym)
+            return np.sort_complex(np.linalg.eigvals(sym))
         return np.linalg.eigvalsh(sym)
 
 

@@ -128,3 +128,22 @@ def test_effective_permittivity_needs_a_sample_radius():
     one = da.solve(sol.scene.replace(field=[0, 0, 2.0]))
     e1 = da.effective_permittivity(one, sample_radius=5.0)
     assert e1.tensor is None and e1.along_field[0] == pytest.approx(eff.tensor[2, 2], rel=1e-12)
+
+
+def test_bulk_tensor_of_aligned_spheroids_has_the_right_axes_and_loss():
+    from dipolearray.arrange import random_sequential_addition
+    from dipolearray.shapes import rotation_to_axis
+
+    u = np.array([1.0, 1.0, 0.0]) / np.sqrt(2)
+    R = rotation_to_axis(u)
+    arr = random_sequential_addition(
+        80, 0.12, semi_axes=(0.6, 0.6, 1.8), rotations=R, region="periodic", rng=3
+    )
+    pop = da.Population(da.Spheroid(polar=1.8, equatorial=0.6), da.Material(20.0 - 4.0j))
+    sol = da.solve(da.Scene.from_arrangement(arr, pop, host=da.Material(2.0)), rtol=1e-10)
+    eff = da.effective_permittivity(sol)
+    assert eff.boundary == "periodic"
+    main_axis = eff.axes[:, -1]
+    assert abs(main_axis @ u) > 0.99  # the largest principal value lies along the spheroid axes
+    iso = complex(eff.isotropic)
+    assert eff.loss_tangent == pytest.approx(-iso.imag / iso.real) and eff.loss_tangent > 0

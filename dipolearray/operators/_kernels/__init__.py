@@ -99,6 +99,7 @@ def ewald_field(op, moments):
     out = np.empty_like(p)
     ewald_real(op._pos, p, op.box, op.alpha, op.r_cut, op._cell_of, op._start, op._items, op._ncell, out)
     ex, ey, ez = op._phases
-    ewald_reciprocal(ex, ey, ez, op._hkl, op._kvec, op._weight, p, out)
+    ext, eyt, ezt = op._phases_t
+    ewald_reciprocal(ex, ey, ez, ext, eyt, ezt, op._hkl, op._kvec, op._weight, p, out)
     out += op._self * p
     return out

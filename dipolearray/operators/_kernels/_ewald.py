@@ -81,8 +81,12 @@ def ewald_real(pos, p, box, alpha, rc, cell_of, start, items, ncell, out):
 
 
 @numba.njit(**JIT_PARALLEL)
-def ewald_reciprocal(ex, ey, ez, hkl, kvec, weight, p, out):
-    """Reciprocal-space part: ``ex[i, h + H] = exp(i 2 pi h x_i / L_x)`` (and y, z)."""
+def ewald_reciprocal(ex, ey, ez, ext, eyt, ezt, hkl, kvec, weight, p, out):
+    """Reciprocal-space part: ``ex[i, h + H] = exp(i 2 pi h x_i / L_x)`` (and y, z); ``ext`` = ``ex.T``.
+
+    The structure factors run over bodies with the transposed (contiguous in i) phases,
+    the fields over k-vectors with the row-major ones.
+    """
     n = p.shape[0]
     kk = p.shape[2]
     m = hkl.shape[0]
@@ -94,9 +98,11 @@ def ewald_reciprocal(ex, ey, ez, hkl, kvec, weight, p, out):
         kx = kvec[t, 0]
         ky = kvec[t, 1]
         kz = kvec[t, 2]
+        rx = ext[h]
+        ry = eyt[k]
+        rz = ezt[l]
         for i in range(n):
-            ph = ex[i, h] * ey[i, k] * ez[i, l]
-            cph = ph.conjugate()
+            cph = (rx[i] * ry[i] * rz[i]).conjugate()
             for q in range(kk):
                 A[t, q] += (kx * p[i, 0, q] + ky * p[i, 1, q] + kz * p[i, 2, q]) * cph
     for i in numba.prange(n):
