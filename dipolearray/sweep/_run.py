@@ -48,9 +48,18 @@ def _seed(seed, i, r):
     return int(np.random.SeedSequence([int(seed), int(i), int(r)]).generate_state(1)[0])
 
 
-def _task(maker, point, seed, solve_options):
-    """Build, solve, reduce one realization to its effective tensor and solve record (runs on a worker)."""
+def _task(maker, point, seed, solve_options, threads=None):
+    """Build, solve, reduce one realization to its effective tensor and solve record (runs on a worker).
+
+    ``threads`` caps the compiled kernels' threads in this process: Dask workers run one
+    task each per core, so their kernels run single-threaded instead of oversubscribing.
+    """
     import time
+
+    if threads is not None:
+        from ..operators import set_num_threads
+
+        set_num_threads(threads)
 
     from ..observables import effective_permittivity
     from ..solvers import solve
@@ -163,7 +172,9 @@ def _run_dask(store, maker, pts, todo, seed, solve_options, workers, scheduler, 
     try:
         futures = {}
         for i, r in todo:
-            fut = client.submit(_task, maker, pts[i], _seed(seed, i, r), solve_options, pure=False, retries=2)
+            fut = client.submit(
+                _task, maker, pts[i], _seed(seed, i, r), solve_options, 1, pure=False, retries=2
+            )
             futures[fut] = (i, r)
         for fut in as_completed(futures):
             i, r = futures[fut]

@@ -9,7 +9,7 @@ from __future__ import annotations
 import numpy as np
 
 from ._dipole import assemble_dense, field_1, field_3, pair_forces
-from ._ewald import ewald_real, ewald_reciprocal
+from ._ewald import ewald_real, ewald_reciprocal, screening_table
 from ._jit import get_num_threads, set_num_threads
 
 __all__ = [
@@ -17,6 +17,7 @@ __all__ = [
     "dense_coupling",
     "dipole_pair_forces",
     "ewald_field",
+    "screening_table",
     "set_num_threads",
     "get_num_threads",
 ]
@@ -97,7 +98,10 @@ def ewald_field(op, moments):
     """Ewald field at every body of an ``EwaldOperator`` from ``(N, 3, K)`` moments."""
     p = np.ascontiguousarray(moments, dtype=np.float64)
     out = np.empty_like(p)
-    ewald_real(op._pos, p, op.box, op.alpha, op.r_cut, op._cell_of, op._start, op._items, op._ncell, out)
+    ewald_real(
+        op._pos, p, op.box, op.alpha, op.r_cut, op._cell_of, op._start, op._items, op._ncell, out,
+        op._table, op._table_r0, op._table_h,
+    )  # fmt: skip
     ex, ey, ez = op._phases
     ext, eyt, ezt = op._phases_t
     ewald_reciprocal(ex, ey, ez, ext, eyt, ezt, op._hkl, op._kvec, op._weight, p, out)

@@ -32,9 +32,44 @@ def _axis_cells(c, n, out):
     return 3
 
 
+def screening_table(alpha, r_min, r_max, n):
+    """Screening functions and their r-derivatives on a uniform r grid (cubic Hermite table).
+
+    ``g1 = erfc(x) + 2x/sqrt(pi) e^-x^2`` and ``g2 = 3 erfc(x) + 2x/sqrt(pi) (3 + 2x^2) e^-x^2``
+    with ``x = alpha r``; ``g1' = -4 alpha x^2/sqrt(pi) e^-x^2``, ``g2' = -8 alpha x^4/sqrt(pi) e^-x^2``.
+    """
+    from scipy.special import erfc
+
+    r = np.linspace(r_min, r_max, n)
+    x = alpha * r
+    e = np.exp(-x * x)
+    c = 2.0 / math.sqrt(math.pi)
+    table = np.empty((n, 4))
+    table[:, 0] = erfc(x) + c * x * e
+    table[:, 1] = -2.0 * c * alpha * x * x * e
+    table[:, 2] = 3.0 * erfc(x) + c * x * (3.0 + 2.0 * x * x) * e
+    table[:, 3] = -4.0 * c * alpha * x**4 * e
+    return np.ascontiguousarray(table)
+
+
+@numba.njit(**JIT)
+def _hermite(table, col, k, t, h):
+    f0 = table[k, col]
+    f1 = table[k + 1, col]
+    d0 = table[k, col + 1] * h
+    d1 = table[k + 1, col + 1] * h
+    t2 = t * t
+    t3 = t2 * t
+    return (2 * t3 - 3 * t2 + 1) * f0 + (t3 - 2 * t2 + t) * d0 + (-2 * t3 + 3 * t2) * f1 + (t3 - t2) * d1
+
+
 @numba.njit(**JIT_PARALLEL)
-def ewald_real(pos, p, box, alpha, rc, cell_of, start, items, ncell, out):
-    """Real-space part at every body from every other body within ``rc`` (minimum image)."""
+def ewald_real(pos, p, box, alpha, rc, cell_of, start, items, ncell, out, table, r_min, h):
+    """Real-space part at every body from every other body within ``rc`` (minimum image).
+
+    The screening functions come from ``table`` (cubic Hermite on a uniform grid from
+    ``r_min`` in steps ``h``) for pairs at ``r >= r_min`` and exactly below.
+    """
     n = pos.shape[0]
     kk = p.shape[2]
     rc2 = rc * rc
@@ -65,11 +100,20 @@ def ewald_real(pos, p, box, alpha, rc, cell_of, start, items, ncell, out):
                         if r2 >= rc2:
                             continue
                         r = math.sqrt(r2)
-                        ar = alpha * r
-                        g = _TWO_OVER_SQRT_PI * ar * math.exp(-a2 * r2)
-                        e = math.erfc(ar)
-                        B = (e + g) / (r2 * r)
-                        C = (3.0 * e + g * (3.0 + 2.0 * a2 * r2)) / (r2 * r2 * r)
+                        pos_t = (r - r_min) / h
+                        if pos_t >= 0.0:
+                            node = int(pos_t)
+                            frac = pos_t - node
+                            g1 = _hermite(table, 0, node, frac, h)
+                            g2 = _hermite(table, 2, node, frac, h)
+                        else:
+                            ar = alpha * r
+                            g = _TWO_OVER_SQRT_PI * ar * math.exp(-a2 * r2)
+                            e = math.erfc(ar)
+                            g1 = e + g
+                            g2 = 3.0 * e + g * (3.0 + 2.0 * a2 * r2)
+                        B = g1 / (r2 * r)
+                        C = g2 / (r2 * r2 * r)
                         for q in range(kk):
                             pr = p[j, 0, q] * dx + p[j, 1, q] * dy + p[j, 2, q] * dz
                             acc[0, q] += pr * C * dx - p[j, 0, q] * B
