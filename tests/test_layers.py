@@ -19,7 +19,8 @@ LAYERS = {
     "sweep": 10,
     "plots": 11,
     "config": 11,
-    "cli": 12,
+    "report": 12,
+    "cli": 13,
 }
 BASE = {"errors", "units", "_validate", "_version"}
 

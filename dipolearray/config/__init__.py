@@ -19,6 +19,11 @@ build_arrangement, build_scene
     :class:`~dipolearray.scene.Scene`, a :class:`RunConfig` describes.
 run_config
     Build, solve and (optionally) store one config; returns the solution and path.
+run_config_sweep, sweep_output_path, sweep_rule_inputs
+    Run (or resume) a config's ``[sweep]``; where it goes; the abscissa, fractions and
+    permittivities of its state points for the mixing rules.
+parse_assignment
+    ``"key=value"`` (command-line ``--set``) into a dotted override.
 ConfigScene
     Picklable scene maker for sweeps: the config with dotted keys overridden per state
     point (``{"population.0.polar": "1.5 um"}``).
@@ -27,8 +32,8 @@ SECTIONS, config_markdown
 """
 
 from ._build import build_arrangement, build_scene, run_config
-from ._schema import SECTIONS, RunConfig, config_markdown, load_config, parse_config
-from ._sweep import ConfigScene
+from ._schema import SECTIONS, RunConfig, config_markdown, load_config, parse_assignment, parse_config
+from ._sweep import ConfigScene, run_config_sweep, sweep_output_path, sweep_rule_inputs
 
 __all__ = [
     "load_config",
@@ -38,6 +43,10 @@ __all__ = [
     "build_scene",
     "run_config",
     "ConfigScene",
+    "run_config_sweep",
+    "sweep_output_path",
+    "sweep_rule_inputs",
+    "parse_assignment",
     "SECTIONS",
     "config_markdown",
 ]

@@ -271,5 +271,5 @@ def run_config(
         if (n != "effective_permittivity" or scene.sample_radius or periodic)
         and not (periodic and n == "forces")
     ]
-    save_result(path, sol, observables=names, config_text=cfg.text, overwrite=overwrite)
+    save_result(path, sol, observables=names, config_text=cfg.recorded_text, overwrite=overwrite)
     return sol, path

@@ -33,6 +33,7 @@ OBSERVABLE_NAMES = (
     "energy",
     "forces",
     "torques",
+    "surface_field",
     "effective_permittivity",
 )
 
@@ -181,6 +182,26 @@ SECTIONS = {
         "maxiter": Key("int", 1000, "iteration limit", minimum=1, maximum=10**6),
         "relaxation": Key("float", 1.0, "fixed-point relaxation w", minimum=1e-6, maximum=2.0),
     },
+    "sweep": {
+        "parameter": Key(
+            "str",
+            "",
+            "dotted config key to vary, e.g. 'arrangement.volume_fraction' or 'population.0.eps'; "
+            "empty: an ensemble of realizations of the config as written",
+        ),
+        "values": Key("values", (), "values of the parameter, one state point each (numbers or quantities)"),
+        "realizations": Key("int", 4, "random realizations per state point", minimum=1, maximum=100000),
+        "seed": Key("int", 0, "root seed; each realization's arrangement seed derives from it", minimum=0),
+        "workers": Key(
+            "int",
+            0,
+            "0: run in this process; N: a local Dask cluster of N worker processes (ignored with scheduler)",
+            minimum=0,
+            maximum=4096,
+        ),
+        "scheduler": Key("str", "", "address of a running Dask scheduler, e.g. 'tcp://10.0.0.5:8786'"),
+        "output": Key("str", "", "sweep HDF5 file; empty: runs/<name>-sweep.h5"),
+    },
     "output": {
         "observables": Key(
             "list[str]",
@@ -297,6 +318,15 @@ def _check_value(value, key: Key, where: str):
         raise ConfigError(
             f"{where}: expected 'all' or a list of vectors like [[0, 0, 1]], got {value!r}", where
         )
+    if k == "values":
+        ok = isinstance(value, list) and all(
+            isinstance(v, (str, numbers.Real)) and not isinstance(v, bool) for v in value
+        )
+        if not ok:
+            raise ConfigError(
+                f"{where}: expected a list of numbers or quantity strings, got {value!r}", where
+            )
+        return tuple(value)
     if k == "list[str]":
         if not isinstance(value, list) or not all(isinstance(v, str) for v in value):
             raise ConfigError(f"{where}: expected a list of names, got {value!r}", where)
@@ -349,6 +379,23 @@ class RunConfig:
     output: MappingProxyType
     text: str
     source: str
+    sweep: MappingProxyType | None = None
+    overrides: tuple = ()
+
+    @property
+    def recorded_text(self) -> str:
+        """The config text with any dotted-key overrides appended as comments (what is stored)."""
+        if not self.overrides:
+            return self.text
+        lines = [f"# override: {k} = {v!r}" for k, v in self.overrides]
+        return self.text.rstrip("\n") + "\n\n# applied on top of the text above:\n" + "\n".join(lines) + "\n"
+
+    @property
+    def sweep_points(self) -> list:
+        """State points of the ``[sweep]`` section: ``[{parameter: value}, ...]``, or ``[{}]``."""
+        if self.sweep is None or not self.sweep["parameter"]:
+            return [{}]
+        return [{self.sweep["parameter"]: v} for v in self.sweep["values"]]
 
 
 def apply_overrides(raw: dict, overrides: dict) -> dict:
@@ -381,8 +428,11 @@ def apply_overrides(raw: dict, overrides: dict) -> dict:
     return out
 
 
-def parse_config(text: str, source: str = "<config>", overrides=None) -> RunConfig:
+def parse_config(text: str, source: str = "<config>", overrides=None, *, check_sweep=True) -> RunConfig:
     """Check TOML ``text`` (with optional dotted-key ``overrides``) and return a :class:`RunConfig`.
+
+    With ``check_sweep`` (default) every state point of a ``[sweep]`` section is
+    checked too, so a bad sweep value fails here rather than mid-sweep.
 
     Raises
     ------
@@ -472,15 +522,102 @@ def parse_config(text: str, source: str = "<config>", overrides=None) -> RunConf
         raise ConfigError("arrangement.gap: must be >= 0", "arrangement.gap")
     if sections["solver"]["rtol"] == 0 and sections["solver"]["atol"] == 0:
         raise ConfigError("solver.rtol: rtol and atol cannot both be zero", "solver.rtol")
-    return RunConfig(populations=pops, text=text, source=source, **sections)
+    sweep = None
+    if "sweep" in raw:
+        sweep = _section(raw["sweep"], "sweep", "sweep")
+        if check_sweep:
+            _check_sweep(sweep, text, source, overrides, sections, len(pops))
+    return RunConfig(
+        populations=pops,
+        text=text,
+        source=source,
+        sweep=sweep,
+        overrides=tuple((str(k), v) for k, v in (overrides or {}).items()),
+        **sections,
+    )
 
 
-def load_config(path) -> RunConfig:
-    """Read and check a TOML config file."""
+def _check_sweep(sweep, text, source, overrides, sections, n_pops):
+    param = sweep["parameter"]
+    if sections["field"]["directions"] != "all":
+        raise ConfigError(
+            "field.directions: a sweep needs 'all' (it reports the full effective tensor)", "field.directions"
+        )
+    if not param:
+        if sweep["values"]:
+            raise ConfigError("sweep.values: given without sweep.parameter", "sweep.values")
+        return
+    parts = param.split(".")
+    if parts[0] == "population":
+        if len(parts) != 3 or not parts[1].isdigit():
+            raise ConfigError(
+                f"sweep.parameter: {param!r}: name a population by index, e.g. 'population.0.eps'",
+                "sweep.parameter",
+            )
+        if int(parts[1]) >= n_pops:
+            raise ConfigError(
+                f"sweep.parameter: {param!r}: there are {n_pops} population(s), indices from 0",
+                "sweep.parameter",
+            )
+        section, key = "population", parts[2]
+    elif len(parts) == 2:
+        section, key = parts
+    else:
+        raise ConfigError(
+            f"sweep.parameter: {param!r}: expected 'section.key' such as 'arrangement.volume_fraction'",
+            "sweep.parameter",
+        )
+    if section in ("sweep", "run", "output") or section not in SECTIONS:
+        allowed = [s for s in SECTIONS if s not in ("sweep", "run", "output")]
+        raise ConfigError(
+            f"sweep.parameter: {param!r}: cannot sweep section {section!r} (allowed: {', '.join(allowed)})",
+            "sweep.parameter",
+        )
+    if key not in SECTIONS[section]:
+        hint = nearest(key, SECTIONS[section])
+        extra = f"; did you mean '{section}.{hint}'?" if hint else ""
+        raise ConfigError(f"sweep.parameter: {param!r}: unknown key{extra}", "sweep.parameter")
+    if (section, key) == ("arrangement", "seed"):
+        raise ConfigError(
+            "sweep.parameter: the sweep sets arrangement.seed itself (use sweep.realizations)",
+            "sweep.parameter",
+        )
+    if not sweep["values"]:
+        raise ConfigError(
+            "sweep.values: required with sweep.parameter (one value per state point)", "sweep.values"
+        )
+    for i, value in enumerate(sweep["values"]):
+        over = dict(overrides or {})
+        over[param] = value
+        try:
+            parse_config(text, source, overrides=over, check_sweep=False)
+        except ConfigError as exc:
+            raise ConfigError(f"sweep.values[{i}] ({value!r} for {param}): {exc}", "sweep.values") from None
+
+
+def load_config(path, overrides=None) -> RunConfig:
+    """Read and check a TOML config file (with optional dotted-key ``overrides``)."""
     p = Path(path)
     if not p.is_file():
         raise ConfigError(f"config: no such file {p}", "config")
-    return parse_config(p.read_text(encoding="utf-8"), source=str(p))
+    try:
+        text = p.read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError) as exc:
+        raise ConfigError(f"config: cannot read {p} ({exc})", "config") from None
+    return parse_config(text, source=str(p), overrides=overrides)
+
+
+def parse_assignment(text: str):
+    """``"arrangement.n_bodies=200"`` -> ``("arrangement.n_bodies", 200)``; value read as TOML, else text."""
+    if "=" not in text:
+        raise ConfigError(f"--set: expected KEY=VALUE, got {text!r}", "--set")
+    key, value = (t.strip() for t in text.split("=", 1))
+    if not key:
+        raise ConfigError(f"--set: missing key in {text!r}", "--set")
+    try:
+        return key, tomllib.loads(f"v = {value}")["v"]
+    except tomllib.TOMLDecodeError:
+        return key, value
 
 
 def config_markdown() -> str:
@@ -511,7 +648,9 @@ def config_markdown() -> str:
                 allowed.append(f">= {k.minimum:g}")
             if k.maximum is not None:
                 allowed.append(f"<= {k.maximum:g}")
-            unit = {"length": "length", "field": "field", "length3": "3 lengths"}.get(k.kind, k.kind)
+            unit = {"length": "length", "field": "field", "length3": "3 lengths", "values": "list"}.get(
+                k.kind, k.kind
+            )
             lines.append(f"| `{key}` | {unit} | {default} | {'; '.join(allowed)} | {k.doc} |")
         lines.append("")
     return "\n".join(lines)

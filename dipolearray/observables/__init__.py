@@ -18,12 +18,17 @@ interior_field
     Uniform field inside each ellipsoid (point-dipole model).
 field_at
     Field at arbitrary points (interior field for points inside a body).
+field_slice, slice_outlines
+    Field magnitude on a grid in a plane through the sample; the bodies' cut outlines.
 total_moment
     Sum of all moments.
 effective_permittivity
     Effective permittivity of a spherical sample from its total moment.
 EffectivePermittivity
     Its result record.
+field_enhancement, FieldEnhancement
+    Local, interior and host-surface field magnitudes over ``|E0|`` per body, with
+    percentiles (the hot-spot statistics).
 energy
     Electrostatic energy at fixed applied field, ``-1/2 sum p . E0``.
 forces, torques
@@ -33,7 +38,8 @@ OBSERVABLES
 """
 
 from ._effective import EffectivePermittivity, effective_permittivity
-from ._fields import field_at, interior_field, local_field, total_moment
+from ._enhancement import FieldEnhancement, field_enhancement
+from ._fields import field_at, field_slice, interior_field, local_field, slice_outlines, total_moment
 from ._mechanics import energy, forces, torques
 from ._registry import OBSERVABLES, Observable
 
@@ -41,9 +47,13 @@ __all__ = [
     "local_field",
     "interior_field",
     "field_at",
+    "field_slice",
+    "slice_outlines",
     "total_moment",
     "effective_permittivity",
     "EffectivePermittivity",
+    "field_enhancement",
+    "FieldEnhancement",
     "energy",
     "forces",
     "torques",

@@ -97,3 +97,111 @@ def field_at(sol, points, operator=None):
         hit = owner >= 0
         out[hit] = inner[owner[hit]]
     return out
+
+
+_AXES = {"x": 0, "y": 1, "z": 2}
+
+
+def slice_frame(normal):
+    """In-plane unit vectors ``(e1, e2)`` and the normal index of a slice ``"x"``, ``"y"`` or ``"z"``."""
+    from ..errors import InputError
+
+    if normal not in _AXES:
+        raise InputError(f"normal: expected 'x', 'y' or 'z', got {normal!r}", "normal")
+    k = _AXES[normal]
+    e1, e2 = [np.eye(3)[i] for i in range(3) if i != k]
+    return e1, e2, k
+
+
+def field_slice(sol, *, normal="y", offset=0.0, resolution=161, direction=0, extent=None, operator=None):
+    """Field magnitude on a square grid in a plane through the sample.
+
+    Parameters
+    ----------
+    sol : Solution
+    normal : {"x", "y", "z"}
+        Axis normal to the plane.
+    offset : float, reduced length
+        Position of the plane along ``normal``.
+    resolution : int
+        Grid points per side.
+    direction : int
+        Which applied field (index into ``scene.field``).
+    extent : (float, float, float, float), optional
+        ``(u_min, u_max, v_min, v_max)``, reduced length; default: the bodies' bounding
+        box with one bounding radius to spare.
+    operator : InteractionOperator, optional
+
+    Returns
+    -------
+    dict
+        ``u`` and ``v`` (``(R,)`` grid coordinates), ``magnitude`` (``(R, R)``,
+        ``|E| / |E0|`` indexed ``[v, u]``), ``inside`` (``(R, R)`` bool, grid point
+        inside a body), ``axes`` (the two in-plane axis names), ``offset``.
+    """
+    from .._validate import as_int
+
+    e1, e2, k = slice_frame(normal)
+    n = as_int(resolution, "resolution", minimum=4)
+    scene = sol.scene
+    if not 0 <= int(direction) < scene.n_fields:
+        from ..errors import InputError
+
+        raise InputError(f"direction: expected 0..{scene.n_fields - 1}, got {direction!r}", "direction")
+    pos = scene.positions
+    pad = float(scene.bounding_radii.max())
+    if extent is None:
+        lo = pos.min(axis=0) - pad
+        hi = pos.max(axis=0) + pad
+        i1, i2 = int(np.argmax(e1)), int(np.argmax(e2))
+        extent = (lo[i1], hi[i1], lo[i2], hi[i2])
+    u = np.linspace(extent[0], extent[1], n)
+    v = np.linspace(extent[2], extent[3], n)
+    uu, vv = np.meshgrid(u, v)
+    pts = uu.ravel()[:, None] * e1 + vv.ravel()[:, None] * e2
+    pts[:, k] = float(offset)
+    field = field_at(sol, pts, operator)[:, :, int(direction)]
+    e0 = float(np.linalg.norm(scene.field[int(direction)]))
+    mag = np.sqrt(np.sum(np.abs(field) ** 2, axis=1)) / e0
+    inside = inside_body(scene, pts) >= 0
+    names = [a for a in "xyz" if a != normal]
+    return {
+        "u": u,
+        "v": v,
+        "magnitude": mag.reshape(n, n),
+        "inside": inside.reshape(n, n),
+        "axes": tuple(names),
+        "offset": float(offset),
+    }
+
+
+def slice_outlines(scene, normal="y", offset=0.0):
+    """Ellipses where the bodies cut a slice plane.
+
+    Returns
+    -------
+    (M, 5) ndarray
+        ``u, v`` centre, full width, full height (reduced length) and angle (degrees,
+        counter-clockwise from the first in-plane axis) of each cut body's outline.
+    """
+    e1, e2, k = slice_frame(normal)
+    E = np.stack([e1, e2], axis=1)  # (3, 2)
+    origin = np.zeros(3)
+    origin[k] = float(offset)
+    w = origin[None, :] - scene.positions  # (N, 3)
+    inv = 1.0 / scene.semi_axes**2
+    M = np.einsum("nij,nj,nkj->nik", scene.rotations, inv, scene.rotations)
+    A = np.einsum("ia,nij,jb->nab", E, M, E)
+    b = np.einsum("ia,nij,nj->na", E, M, w)
+    c = np.einsum("ni,nij,nj->n", w, M, w)
+    Ainv_b = np.linalg.solve(A, b[:, :, None])[:, :, 0]
+    kappa = 1.0 - c + np.einsum("na,na->n", b, Ainv_b)
+    cut = kappa > 0
+    out = []
+    for n in np.flatnonzero(cut):
+        lam, vec = np.linalg.eigh(A[n])
+        half = np.sqrt(kappa[n] / lam)
+        angle = np.degrees(np.arctan2(vec[1, 0], vec[0, 0]))
+        q = -Ainv_b[n]
+        out.append((q[0], q[1], 2 * half[0], 2 * half[1], angle))
+    return np.array(out, dtype=float).reshape(-1, 5)

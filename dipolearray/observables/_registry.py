@@ -4,6 +4,7 @@ from collections.abc import Callable
 from dataclasses import dataclass
 
 from ._effective import effective_permittivity
+from ._enhancement import field_enhancement
 from ._fields import interior_field, local_field, total_moment
 from ._mechanics import energy, forces, torques
 
@@ -27,6 +28,13 @@ def _eps_tensor(sol):
 _ENTRIES = [
     Observable("local_field", local_field, "(N, 3, K)", "field", "exciting field at each body centre"),
     Observable("interior_field", interior_field, "(N, 3, K)", "field", "uniform field inside each body"),
+    Observable(
+        "surface_field",
+        lambda sol: field_enhancement(sol).surface,
+        "(N, K)",
+        "field",
+        "largest host field on each body's surface, |E| (the hot spot outside the body)",
+    ),
     Observable("total_moment", total_moment, "(3, K)", "moment", "sum of all dipole moments"),
     Observable("energy", energy, "(K,)", "energy", "electrostatic energy at fixed applied field"),
     Observable("forces", forces, "(N, 3, K)", "force", "force on every body"),

@@ -1,15 +1,41 @@
 """Plots: figures for design reviews (matplotlib, PNG and SVG, greyscale- and colour-blind-safe).
 
-Colours follow the Okabe-Ito palette and every series also differs by marker or line
-style, so the figures read in greyscale.
+Every plot function takes its data plus ``ax=None`` and returns the Axes; saving is
+:func:`save_figure` (PNG and SVG), called by the CLI and the report. Series colours
+follow the Okabe-Ito palette and every series also differs by marker or line style;
+magnitudes use the cividis map, whose lightness rises monotonically; so the figures
+read in greyscale and for colour-blind readers. Axis labels state their units.
 
 Public names
 ------------
+plot_bodies
+    Bodies in 3D coloured by moment magnitude, with moment arrows.
+plot_field_slice
+    ``|E|/|E0|`` on a slice plane through the sample, with the bodies' outlines.
+plot_residual_history
+    Relative residual per iteration and field direction, with the tolerance.
+plot_enhancement_histogram
+    Histogram of field enhancement over the bodies, upper tail marked.
 plot_sweep
-    Effective permittivity against a swept parameter with error bars, mixing rules and
-    Hashin-Shtrikman bounds.
+    Effective permittivity against volume fraction (or any swept parameter) with error
+    bars, mixing rules and Hashin-Shtrikman bounds.
+save_figure
+    Write a figure as PNG and SVG.
+OKABE_ITO, SEQUENTIAL
+    The palette and the colour map.
 """
 
+from ._common import OKABE_ITO, SEQUENTIAL, save_figure
+from ._figures import plot_bodies, plot_enhancement_histogram, plot_field_slice, plot_residual_history
 from ._sweep import plot_sweep
 
-__all__ = ["plot_sweep"]
+__all__ = [
+    "plot_bodies",
+    "plot_field_slice",
+    "plot_residual_history",
+    "plot_enhancement_histogram",
+    "plot_sweep",
+    "save_figure",
+    "OKABE_ITO",
+    "SEQUENTIAL",
+]

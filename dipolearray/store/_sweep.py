@@ -14,6 +14,8 @@ from ._schema import CONVENTION
 
 SWEEP_FORMAT = "dipolearray-sweep"
 SWEEP_VERSION = 1
+#: Optional per-realization field-enhancement attributes (``|E|/|E0|``).
+ENHANCEMENT_KEYS = ("enhancement_surface_p99", "enhancement_surface_max", "enhancement_local_max")
 
 
 def _point_json(points):
@@ -31,7 +33,7 @@ class SweepStore:
     and flushed as soon as it arrives.
     """
 
-    def __init__(self, path, points, n_realizations, description=""):
+    def __init__(self, path, points, n_realizations, description="", config_text=None):
         self.path = Path(path)
         self.points = list(points)
         self.n_realizations = int(n_realizations)
@@ -56,9 +58,25 @@ class SweepStore:
                 f.attrs["convention"] = CONVENTION
                 f.attrs["points_json"] = text
                 f.attrs["description"] = description
+                if config_text is not None:
+                    f.create_dataset("config", data=str(config_text), dtype=h5py.string_dtype())
                 g = f.create_group("points")
                 for i, p in enumerate(self.points):
                     g.create_group(f"p{i:04d}").attrs["point_json"] = json.dumps(p, sort_keys=True)
+
+    def config_text(self):
+        """The config text the sweep was made from, or ``None``."""
+        with _h5py().File(self.path, "r") as f:
+            if "config" not in f:
+                return None
+            v = f["config"][()]
+            return v.decode() if isinstance(v, bytes) else str(v)
+
+    def description(self):
+        """The file's ``description`` attribute."""
+        with _h5py().File(self.path, "r") as f:
+            v = f.attrs.get("description", "")
+            return v.decode() if isinstance(v, bytes) else str(v)
 
     def done(self):
         """Set of finished ``(point, realization)`` pairs."""
@@ -77,6 +95,9 @@ class SweepStore:
             g["eps_tensor"].attrs["unit"] = "1"
             for key in ("seed", "n_bodies", "iterations", "converged", "wall_s", "method", "volume_fraction"):
                 g.attrs[key] = record[key]
+            for key in ENHANCEMENT_KEYS:
+                if key in record:
+                    g.attrs[key] = float(record[key])
             f.flush()
 
     def read(self):
@@ -91,9 +112,9 @@ class SweepStore:
         return self.points, tensors, records
 
 
-def open_sweep(path, points, n_realizations, description=""):
+def open_sweep(path, points, n_realizations, description="", config_text=None):
     """Create or reopen (resume) a sweep file; see :class:`SweepStore`."""
-    return SweepStore(path, points, n_realizations, description)
+    return SweepStore(path, points, n_realizations, description, config_text)
 
 
 def read_sweep(path):

@@ -61,7 +61,7 @@ def _task(maker, point, seed, solve_options, threads=None):
 
         set_num_threads(threads)
 
-    from ..observables import effective_permittivity
+    from ..observables import effective_permittivity, field_enhancement
     from ..solvers import solve
 
     t = time.perf_counter()
@@ -71,7 +71,11 @@ def _task(maker, point, seed, solve_options, threads=None):
     if eff.tensor is None:
         raise InputError("field: sweeps need the three field directions (the full tensor)", "field")
     volume = float(np.prod(scene.box)) if scene.box is not None else 4 / 3 * math.pi * scene.sample_radius**3
+    stats = field_enhancement(sol).statistics()
     return {
+        "enhancement_surface_p99": stats["surface"]["p99"],
+        "enhancement_surface_max": stats["surface"]["max"],
+        "enhancement_local_max": stats["local"]["max"],
         "eps_tensor": np.asarray(eff.tensor, dtype=complex),
         "seed": seed,
         "n_bodies": scene.n_bodies,
@@ -94,6 +98,8 @@ def run_sweep(
     workers=None,
     scheduler=None,
     progress=True,
+    config_text=None,
+    description="",
 ):
     """Ensembles of random realizations at each state point, stored as they finish; resumable.
 
@@ -126,6 +132,10 @@ def run_sweep(
         Address of a running Dask scheduler (``"tcp://host:8786"``).
     progress : bool
         Show a progress bar.
+    config_text : str, optional
+        Config the maker was built from, stored in the file (``/config``).
+    description : str
+        Free text stored as the file's ``description`` attribute.
 
     Returns
     -------
@@ -137,7 +147,7 @@ def run_sweep(
     pts = list(points)
     if not pts or not all(isinstance(p, dict) for p in pts):
         raise InputError("points: expected a non-empty list of dicts", "points")
-    store = open_sweep(path, pts, n_r)
+    store = open_sweep(path, pts, n_r, description=description, config_text=config_text)
     done = store.done()
     todo = [(i, r) for i in range(len(pts)) for r in range(n_r) if (i, r) not in done]
     bar = None
@@ -198,11 +208,17 @@ class SweepResult:
         Effective tensor of every finished realization.
     records : list of list of dict
         Solve record of every realization (seed, n_bodies, iterations, converged, ...).
+    config_text : str or None
+        The config a config sweep was made from.
+    description : str
+        The file's free-text description.
     """
 
     points: list
     tensors: list
     records: list
+    config_text: str | None = None
+    description: str = ""
 
     @property
     def n(self) -> np.ndarray:
@@ -257,8 +273,9 @@ def load_sweep(path) -> SweepResult:
     """Read a sweep file into a :class:`SweepResult`."""
     from ..store import read_sweep
 
-    points, tensors, records = read_sweep(path).read()
-    return SweepResult(points, tensors, records)
+    store = read_sweep(path)
+    points, tensors, records = store.read()
+    return SweepResult(points, tensors, records, store.config_text(), store.description())
 
 
 def comparison_table(

@@ -123,11 +123,15 @@ def test_config_sweep_over_aspect_ratio(tmp_path):
 
 
 def test_plot_and_reference_comparison(tmp_path):
-    from dipolearray.plots import plot_sweep
+    from dipolearray.plots import plot_sweep, save_figure
 
     pts = [{"volume_fraction": v, "eps_inclusion": 15.0, "eps_host": 2.0} for v in (0.05, 0.15)]
     res = run_sweep(tmp_path / "p.h5", MAKER, pts, 3, solve_options=OPTS, workers=0, progress=False)
-    png, svg = plot_sweep(res, tmp_path / "figs" / "sweep")
+    ax = plot_sweep(res)
+    # Computed means drawn as error-bar markers at the state points.
+    xs = np.concatenate([ln.get_xdata() for ln in ax.lines if ln.get_marker() == "o"])
+    np.testing.assert_allclose(np.sort(xs), [0.05, 0.15])
+    png, svg = save_figure(ax, tmp_path / "figs" / "sweep")
     assert png.stat().st_size > 5000 and svg.read_text().startswith("<?xml")
     same = comparison_table(res, reference=res)
     assert all(r["excess_over_reference"] == 0 and r["significance_over_reference"] == 0 for r in same)
