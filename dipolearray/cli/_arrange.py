@@ -3,7 +3,6 @@
 Prints the descriptors of the microstructure (volume fraction, nearest-neighbour gaps,
 coordination, clusters and percolation at a contact gap) without solving anything,
 and writes the bodies to CSV or extended XYZ (lengths in micrometres) with --output.
-Periodic boxes can be generated here even though they cannot be solved yet.
 
 example:
   dipolearray arrange configs/capacitor_film.toml
@@ -30,6 +29,9 @@ def add_arguments(p):
     )
     p.add_argument("--json", action="store_true", help="print the descriptors as JSON")
     p.add_argument("--quiet", action="store_true", help="no progress bar")
+    from ._common import add_set_argument
+
+    add_set_argument(p)
 
 
 def describe(arr, contact_gap):
@@ -60,15 +62,16 @@ def describe(arr, contact_gap):
 def run(args) -> int:
     """Run ``arrange``."""
     from ..arrange import write_arrangement
-    from ..config import build_arrangement, load_config
+    from ..config import build_arrangement
     from ..config._build import reference_length
     from ..errors import InputError
+    from ._common import load
 
     if not args.contact_gap >= 0:
         raise InputError(f"--contact-gap: must be >= 0, got {args.contact_gap}", "contact-gap")
     from ._progress import StageBar
 
-    cfg = load_config(args.config)
+    cfg = load(args)
     stages = StageBar(enabled=not args.quiet and not args.json)
     try:
         arr = build_arrangement(cfg, progress=stages)

@@ -1,25 +1,77 @@
-"""Print what an HDF5 result file holds.
+"""Summarize an HDF5 result or sweep file: what it holds and its main numbers.
+
+For a result: the scene, the solver record, the stored observables, the effective
+permittivity, the field enhancement and any breakdown warning. For a sweep: the
+state points, realizations and the mean effective permittivity per point.
 
 example:
   dipolearray inspect runs/capacitor-film.h5
   dipolearray inspect runs/capacitor-film.h5 --config
+  dipolearray inspect runs/fraction-sweep-sweep.h5 --json
 """
 
 from __future__ import annotations
 
+import json
+
 
 def add_arguments(p):
     """Arguments of ``inspect``."""
-    p.add_argument("path", help="HDF5 result file")
+    p.add_argument("path", help="HDF5 result or sweep file")
     p.add_argument("--config", action="store_true", help="also print the stored config text")
+    p.add_argument("--json", action="store_true", help="print the summary as JSON")
 
 
 def run(args) -> int:
     """Run ``inspect``."""
-    from ..store import describe, read_config_text
+    from ..report import file_kind
 
+    if file_kind(args.path) == "sweep":
+        return _sweep(args)
+    from ..report import run_summary
+    from ..store import describe, load_result, read_config_text
+    from ._solve import print_summary
+
+    info = run_summary(load_result(args.path))
+    text = read_config_text(args.path)
+    if args.json:
+        info["kind"] = "result"
+        if args.config:
+            info["config"] = text
+        print(json.dumps(info, indent=2))
+        return 0
     print(describe(args.path))
+    print_summary(info)
     if args.config:
-        text = read_config_text(args.path)
         print(text if text is not None else "(no config stored)")
+    return 0
+
+
+def _sweep(args):
+    from ..sweep import load_sweep
+
+    res = load_sweep(args.path)
+    mean = res.isotropic_mean
+    se = res.standard_error
+    rows = [
+        {
+            "point": p,
+            "n": int(n),
+            "eps_eff_isotropic": [float(m.real), float(-m.imag)],
+            "standard_error": float(s.real) if s == s else None,
+        }
+        for p, n, m, s in zip(res.points, res.n, mean, se, strict=True)
+    ]
+    if args.json:
+        out = {"kind": "sweep", "points": rows}
+        if args.config:
+            out["config"] = res.config_text
+        print(json.dumps(out, indent=2))
+        return 0
+    print(f"{args.path}: sweep over {len(rows)} state point(s), {int(res.n.sum())} finished realization(s)")
+    for r in rows:
+        se_txt = "-" if r["standard_error"] is None else f"{r['standard_error']:.2g}"
+        print(f"  {json.dumps(r['point'])}: n {r['n']}, eps' {r['eps_eff_isotropic'][0]:.5g} +/- {se_txt}")
+    if args.config:
+        print(res.config_text if res.config_text is not None else "(no config stored)")
     return 0

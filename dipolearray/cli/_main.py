@@ -14,7 +14,10 @@ COMMANDS = {
     "solve": "dipolearray.cli._solve",
     "check": "dipolearray.cli._check",
     "arrange": "dipolearray.cli._arrange",
+    "sweep": "dipolearray.cli._sweep",
     "inspect": "dipolearray.cli._inspect",
+    "figures": "dipolearray.cli._figures",
+    "report": "dipolearray.cli._report",
 }
 
 
@@ -24,7 +27,8 @@ def _parser():
     p = argparse.ArgumentParser(
         prog="dipolearray",
         description="Coupled-dipole engine for particle-filled dielectrics.",
-        epilog="Example: dipolearray solve configs/capacitor_film.toml --overwrite",
+        epilog="Example: dipolearray solve configs/capacitor_film.toml --overwrite && "
+        "dipolearray report runs/capacitor-film.h5",
     )
     p.add_argument("--version", action="version", version=f"dipolearray {__version__}")
     p.add_argument("--traceback", action="store_true", help="show the full traceback on errors")

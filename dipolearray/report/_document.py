@@ -190,7 +190,7 @@ def _result_blocks(path, figures_dir, prefix, resolution):
             b.append(("p", mix["note"] + "."))
             ci = iso[0]
             rows = [(k, _fmt(v), f"{100 * (ci - v[0]) / v[0]:+.2f} %") for k, v in mix["rules"].items()]
-            b.append(("table", ("rule", "eps_eff", "computed eps' minus rule"), rows))
+            b.append(("table", ("rule", "eps_eff", "(computed - rule) / rule, eps'"), rows))
             rows = [
                 (k, f"{lo:.5g}", f"{hi:.5g}", "yes" if lo - 1e-9 <= ci <= hi + 1e-9 else "NO")
                 for k, (lo, hi) in mix["bounds"].items()
