@@ -125,8 +125,17 @@ def check_choice(value, key: str, allowed) -> str:
 
 
 def nearest(word: str, candidates) -> str | None:
-    """Closest candidate to ``word`` by edit similarity, or ``None`` if nothing is close."""
+    """Closest candidate to ``word``, or ``None`` if nothing is close.
+
+    A candidate that is a prefix of ``word`` or starts with it (``volum`` ->
+    ``volume_fraction``, ``epsilon`` -> ``eps``) wins; otherwise edit similarity.
+    """
     import difflib
 
-    hits = difflib.get_close_matches(word, list(candidates), n=1, cutoff=0.6)
+    cands = [str(c) for c in candidates]
+    w = str(word)
+    prefix = [c for c in cands if len(min(c, w, key=len)) >= 3 and (w.startswith(c) or c.startswith(w))]
+    if prefix:
+        return max(prefix, key=lambda c: difflib.SequenceMatcher(None, w, c).ratio())
+    hits = difflib.get_close_matches(w, cands, n=1, cutoff=0.6)
     return hits[0] if hits else None

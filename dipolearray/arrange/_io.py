@@ -328,6 +328,10 @@ def read_arrangement(path, *, format=None, length_unit_m=None, check_overlap=Tru
         text = p.read_text(encoding="utf-8")
     except FileNotFoundError:
         raise InputError(f"path: no such file {str(p)!r}", "path") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"path: cannot read {str(p)!r} as a text microstructure file ({exc})", "path") from (
+            None
+        )
     where = p.name
     if fmt == "csv":
         return _read_csv(text, where, length_unit_m, check_overlap)

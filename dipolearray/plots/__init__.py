@@ -21,11 +21,11 @@ plot_sweep
     bars, mixing rules and Hashin-Shtrikman bounds.
 save_figure
     Write a figure as PNG and SVG.
-OKABE_ITO, SEQUENTIAL
-    The palette and the colour map.
+OKABE_ITO, SEQUENTIAL, DPI
+    The palette, the colour map and the PNG resolution.
 """
 
-from ._common import OKABE_ITO, SEQUENTIAL, save_figure
+from ._common import DPI, OKABE_ITO, SEQUENTIAL, save_figure
 from ._figures import plot_bodies, plot_enhancement_histogram, plot_field_slice, plot_residual_history
 from ._sweep import plot_sweep
 
@@ -38,4 +38,5 @@ __all__ = [
     "save_figure",
     "OKABE_ITO",
     "SEQUENTIAL",
+    "DPI",
 ]

@@ -31,7 +31,7 @@ def new_axes(ax=None, projection=None, figsize=FIGSIZE):
     if ax is not None:
         return ax
     plt = pyplot()
-    fig = plt.figure(figsize=figsize, dpi=DPI)
+    fig = plt.figure(figsize=figsize, dpi=DPI, layout="constrained")
     return fig.add_subplot(1, 1, 1, projection=projection)
 
 
@@ -58,8 +58,9 @@ def save_figure(fig_or_ax, path, *, close=True):
     stem = stem.with_suffix("") if stem.suffix in (".png", ".svg") else stem
     stem.parent.mkdir(parents=True, exist_ok=True)
     png, svg = stem.with_suffix(".png"), stem.with_suffix(".svg")
-    fig.savefig(png, dpi=DPI, bbox_inches="tight")
-    fig.savefig(svg, bbox_inches="tight")
+    # Fixed canvas (figure size x DPI), laid out by the constrained layout engine.
+    fig.savefig(png, dpi=DPI)
+    fig.savefig(svg)
     if close:
         pyplot().close(fig)
     return png, svg

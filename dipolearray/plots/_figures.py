@@ -45,7 +45,7 @@ def plot_bodies(sol, ax=None, *, direction=0, max_arrows=400):
     norm = np.abs(vec).max() or 1.0
     arrow = vec / norm * 1.6 * float(np.median(scene.bounding_radii))
     ax.quiver(*pos[pick].T, *arrow.T, color=OKABE_ITO[5], linewidth=0.7, arrow_length_ratio=0.3)
-    cb = ax.figure.colorbar(sc, ax=ax, shrink=0.7, pad=0.1)
+    cb = ax.figure.colorbar(sc, ax=ax, shrink=0.7, pad=0.08)
     cb.set_label("moment magnitude |p| (4 pi eps0 eps_h l^3 |E0|)")
     unit = _length_label(scene)
     ax.set_xlabel(f"x {unit}", fontsize=7)
@@ -138,7 +138,7 @@ def plot_residual_history(sol, ax=None):
     for k, r in enumerate(np.atleast_1d(sol.residual)):
         ax.axhline(max(float(r), 1e-300), color="0.5", lw=0.5, ls=styles[k % 4])
     if sol.rtol:
-        ax.axhline(sol.rtol, color=OKABE_ITO[5], lw=1.0, ls="--", label=f"rtol = {sol.rtol:g}")
+        ax.axhline(sol.rtol, color="black", lw=1.0, ls="-.", label=f"rtol = {sol.rtol:g}")
     ax.set_xlabel("iteration")
     ax.set_ylabel("relative residual ||E0 - (alpha^-1 - T) p|| / ||E0|| (1)")
     ax.set_title(

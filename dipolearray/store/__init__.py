@@ -20,13 +20,23 @@ read_observables, read_config_text, describe
     Read the stored observables, the config text, or a text summary of a file.
 SCHEMA, SCHEMA_VERSION, schema_markdown
     The layout declaration and its rendering for the docs.
+SWEEP_SCHEMA, SWEEP_FORMAT_NAME, sweep_schema_markdown
+    The same for sweep files.
 open_sweep, read_sweep, SweepStore
     Sweep files: one group per state point and realization, written as results arrive
     (``/points/p0000/r0000/eps_tensor`` with the solve record as attributes).
 """
 
 from ._hdf5 import describe, load_result, read_config_text, read_observables, save_result
-from ._schema import FORMAT_NAME, SCHEMA, SCHEMA_VERSION, schema_markdown
+from ._schema import (
+    FORMAT_NAME,
+    SCHEMA,
+    SCHEMA_VERSION,
+    SWEEP_FORMAT_NAME,
+    SWEEP_SCHEMA,
+    schema_markdown,
+    sweep_schema_markdown,
+)
 from ._sweep import SweepStore, open_sweep, read_sweep
 
 __all__ = [
@@ -39,6 +49,9 @@ __all__ = [
     "SCHEMA_VERSION",
     "FORMAT_NAME",
     "schema_markdown",
+    "SWEEP_SCHEMA",
+    "SWEEP_FORMAT_NAME",
+    "sweep_schema_markdown",
     "open_sweep",
     "read_sweep",
     "SweepStore",

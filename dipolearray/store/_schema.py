@@ -121,6 +121,108 @@ CONVENTION = (
 )
 
 
+SWEEP_FORMAT_NAME = "dipolearray-sweep"
+SWEEP_SCHEMA_VERSION = 1
+
+#: Layout of a sweep file (one group per state point and realization).
+SWEEP_SCHEMA = (
+    Entry("/", "group", "", "", "", "file root"),
+    Entry("/@format", "attr", "str", "", "", f"always {SWEEP_FORMAT_NAME!r}"),
+    Entry("/@schema_version", "attr", "int", "", "", "sweep layout version"),
+    Entry("/@package_version", "attr", "str", "", "", "dipolearray version that created the file"),
+    Entry("/@convention", "attr", "str", "", "", "permittivity sign convention and units (text)"),
+    Entry("/@points_json", "attr", "str", "", "", "the list of state points, JSON with sorted keys"),
+    Entry("/@description", "attr", "str", "", "", "free text; config sweeps: JSON with the overrides"),
+    Entry("/config", "dataset", "str", "()", "", "config text of a config sweep", required=False),
+    Entry("/points", "group", "", "", "", "one group per state point"),
+    Entry("/points/p<i>", "group", "", "", "", "state point i (four digits, from 0000)"),
+    Entry("/points/p<i>@point_json", "attr", "str", "", "", "that state point, JSON"),
+    Entry("/points/p<i>/r<r>", "group", "", "", "", "realization r of point i (four digits)"),
+    Entry(
+        "/points/p<i>/r<r>/eps_tensor",
+        "dataset",
+        "complex128",
+        "(3, 3)",
+        "1",
+        "effective permittivity tensor (relative; bulk for periodic scenes, spherical sample for open)",
+    ),
+    Entry(
+        "/points/p<i>/r<r>@seed",
+        "attr",
+        "int",
+        "",
+        "",
+        "arrangement seed (from sweep seed, point, realization)",
+    ),
+    Entry("/points/p<i>/r<r>@n_bodies", "attr", "int", "", "", "bodies in the realization"),
+    Entry("/points/p<i>/r<r>@volume_fraction", "attr", "float64", "", "1", "realized filler fraction"),
+    Entry("/points/p<i>/r<r>@iterations", "attr", "int", "", "", "solver iterations"),
+    Entry("/points/p<i>/r<r>@converged", "attr", "bool", "", "", "the solve met its tolerance"),
+    Entry("/points/p<i>/r<r>@method", "attr", "str", "", "", "solver method used"),
+    Entry("/points/p<i>/r<r>@wall_s", "attr", "float64", "", "s", "wall time of build and solve"),
+    Entry(
+        "/points/p<i>/r<r>@enhancement_surface_p99",
+        "attr",
+        "float64",
+        "",
+        "1",
+        "99th percentile of the host surface field |E|/|E0|",
+        required=False,
+    ),
+    Entry(
+        "/points/p<i>/r<r>@enhancement_surface_max",
+        "attr",
+        "float64",
+        "",
+        "1",
+        "largest host surface field |E|/|E0|",
+        required=False,
+    ),
+    Entry(
+        "/points/p<i>/r<r>@enhancement_local_max",
+        "attr",
+        "float64",
+        "",
+        "1",
+        "largest local (exciting) field |E|/|E0|",
+        required=False,
+    ),
+)
+
+
+def _table(entries):
+    lines = ["| path | kind | dtype | shape | unit | description |", "|---|---|---|---|---|---|"]
+    for e in entries:
+        req = "" if e.required else " (optional)"
+        lines.append(f"| `{e.path}` | {e.kind} | {e.dtype} | {e.shape} | {e.unit} | {e.description}{req} |")
+    return lines
+
+
+def sweep_schema_markdown() -> str:
+    """Render :data:`SWEEP_SCHEMA` as ``docs/sweep_files.md``."""
+    lines = [
+        f"# HDF5 layout of a sweep (format `{SWEEP_FORMAT_NAME}`, schema version {SWEEP_SCHEMA_VERSION})",
+        "",
+        "Generated from `dipolearray/store/_schema.py`; `tests/store/test_store.py` checks that",
+        "this page matches it, and `tests/test_examples.py` walks it against a sweep file.",
+        "One file per sweep, written by `dipolearray sweep` (or `dipolearray.sweep.run_sweep`) and",
+        "read with `dipolearray.sweep.load_sweep` or plain h5py. Each realization is written, and",
+        "the file flushed, the moment it finishes; rerunning with the same state points resumes",
+        "the sweep and never rewrites a finished realization. `<i>` and `<r>` are four-digit",
+        "indices from 0000.",
+        "",
+        "```python",
+        "import h5py, numpy as np",
+        "with h5py.File('runs/fraction-sweep-sweep.h5') as f:",
+        "    for name, point in f['points'].items():",
+        "        eps = np.array([r['eps_tensor'][...] for r in point.values()])  # (n, 3, 3)",
+        "        print(point.attrs['point_json'], np.trace(eps, axis1=1, axis2=2).real.mean() / 3)",
+        "```",
+        "",
+    ]
+    return "\n".join(lines + _table(SWEEP_SCHEMA) + [""])
+
+
 def schema_markdown() -> str:
     """Render :data:`SCHEMA` as the Markdown table in ``docs/schema.md``."""
     lines = [
@@ -147,8 +249,20 @@ def schema_markdown() -> str:
         "| path | kind | dtype | shape | unit | description |",
         "|---|---|---|---|---|---|",
     ]
-    for e in SCHEMA:
-        req = "" if e.required else " (optional)"
-        lines.append(f"| `{e.path}` | {e.kind} | {e.dtype} | {e.shape} | {e.unit} | {e.description}{req} |")
+    lines += _table(SCHEMA)[2:]
+    from ..observables import OBSERVABLES
+
+    lines += [
+        "",
+        "## Observables",
+        "",
+        "`/observables/<name>` holds each observable the run asked for (`output.observables`), in",
+        "reduced units with the usual `unit`, `si_unit`, `si_factor` and a `description`:",
+        "",
+        "| dataset | shape | unit | description |",
+        "|---|---|---|---|",
+    ]
+    for o in OBSERVABLES.values():
+        lines.append(f"| `/observables/{o.name}` | {o.shape} | {o.unit} | {o.description} |")
     lines.append("")
     return "\n".join(lines)

@@ -10,10 +10,10 @@ import numpy as np
 from .._version import __version__
 from ..errors import InputError, SchemaError
 from ._hdf5 import _h5py
-from ._schema import CONVENTION
+from ._schema import CONVENTION, SWEEP_FORMAT_NAME, SWEEP_SCHEMA_VERSION
 
-SWEEP_FORMAT = "dipolearray-sweep"
-SWEEP_VERSION = 1
+SWEEP_FORMAT = SWEEP_FORMAT_NAME
+SWEEP_VERSION = SWEEP_SCHEMA_VERSION
 #: Optional per-realization field-enhancement attributes (``|E|/|E0|``).
 ENHANCEMENT_KEYS = ("enhancement_surface_p99", "enhancement_surface_max", "enhancement_local_max")
 

@@ -36,7 +36,7 @@ def test_solve_writes_result_and_summary(tmp_path, capsys):
     out = tmp_path / "res.h5"
     assert main(["solve", str(cfg), "--output", str(out)]) == EXIT_OK
     text = capsys.readouterr().out
-    assert "effective permittivity" in text and "caution" in text
+    assert "effective permittivity" in text and "Caution" in text and "Maxwell Garnett" in text
     with h5py.File(out) as f:
         assert f["solution/moments"].shape == (120, 3, 3)
         assert "forces" in f["observables"]
