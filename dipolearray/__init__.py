@@ -46,13 +46,34 @@ _EXPORTS = {
 __all__ = ["__version__", *_EXPORTS]
 
 
-def __getattr__(name):
-    if name in _EXPORTS:
-        import importlib
+#: Layers reachable as attributes (``da.observables``, ``da.report``), imported on first use.
+_LAYERS = (
+    "materials",
+    "shapes",
+    "arrange",
+    "scene",
+    "operators",
+    "solvers",
+    "observables",
+    "mixing",
+    "store",
+    "sweep",
+    "plots",
+    "config",
+    "report",
+    "cli",
+)
 
+
+def __getattr__(name):
+    import importlib
+
+    if name in _EXPORTS:
         value = getattr(importlib.import_module(_EXPORTS[name]), name)
         globals()[name] = value
         return value
+    if name in _LAYERS:
+        return importlib.import_module(f"{__name__}.{name}")
     raise AttributeError(f"module 'dipolearray' has no attribute {name!r}")
 
 
