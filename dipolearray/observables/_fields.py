@@ -53,13 +53,24 @@ def inside_body(scene, points):
     """Index of the body containing each point, or -1 (``(M,)`` int)."""
     pts = np.asarray(points, dtype=float)
     owner = np.full(pts.shape[0], -1, dtype=np.int64)
-    tree = cKDTree(scene.positions)
+    box = None
+    pos = scene.positions
+    if scene.boundary == "periodic":
+        box = np.asarray(scene.box, dtype=float)
+        pos = np.mod(pos, box)
+        pos[pos >= box] = 0.0
+        pts = np.mod(pts, box)
+        pts[pts >= box] = 0.0
+    tree = cKDTree(pos, boxsize=box)
     rmax = float(scene.bounding_radii.max())
     near = tree.query_ball_point(pts, r=rmax)
     inv_axes = 1.0 / scene.semi_axes
     for m, cands in enumerate(near):
         for j in cands:
-            local = scene.rotations[j].T @ (pts[m] - scene.positions[j])
+            d = pts[m] - pos[j]
+            if box is not None:
+                d -= box * np.round(d / box)
+            local = scene.rotations[j].T @ d
             if np.sum((local * inv_axes[j]) ** 2) < 1.0:
                 owner[m] = j
                 break
@@ -77,17 +88,12 @@ def field_at(sol, points, operator=None):
     Returns
     -------
     (M, 3, K) ndarray, reduced field
-        Outside the bodies, ``E0 + sum_j T(x - r_j) p_j``. A point inside a body gets
-        that body's uniform interior field (the point-dipole model does not resolve
-        the field inside a body any better).
+        Outside the bodies, ``E0 + sum_j T(x - r_j) p_j`` (for a periodic scene the
+        sum runs over every periodic image, by Ewald summation with a conducting
+        boundary). A point inside a body gets that body's uniform interior field (the
+        point-dipole model does not resolve the field inside a body any better).
     """
     pts = as_float_array(points, "points", (None, 3))
-    if sol.scene.boundary != "open":
-        from ..errors import InputError
-
-        raise InputError(
-            "points: field maps of periodic scenes are not available yet (open scenes only)", "points"
-        )
     op = operator if operator is not None else make_operator(sol.scene)
     out = _applied(sol)[None, :, :] + op.field_at(pts, np.asarray(sol.moments))
     owner = inside_body(sol.scene, pts)
@@ -122,7 +128,8 @@ def field_slice(sol, *, normal="y", offset=0.0, resolution=161, direction=0, ext
     normal : {"x", "y", "z"}
         Axis normal to the plane.
     offset : float, reduced length
-        Position of the plane along ``normal``.
+        Position of the plane along ``normal``. Periodic scenes: the default extent
+        is one box, ``[0, L)`` along both in-plane axes.
     resolution : int
         Grid points per side.
     direction : int
@@ -151,8 +158,11 @@ def field_slice(sol, *, normal="y", offset=0.0, resolution=161, direction=0, ext
     pos = scene.positions
     pad = float(scene.bounding_radii.max())
     if extent is None:
-        lo = pos.min(axis=0) - pad
-        hi = pos.max(axis=0) + pad
+        if scene.boundary == "periodic":
+            lo, hi = np.zeros(3), np.asarray(scene.box, dtype=float)
+        else:
+            lo = pos.min(axis=0) - pad
+            hi = pos.max(axis=0) + pad
         i1, i2 = int(np.argmax(e1)), int(np.argmax(e2))
         extent = (lo[i1], hi[i1], lo[i2], hi[i2])
     u = np.linspace(extent[0], extent[1], n)
@@ -182,15 +192,29 @@ def slice_outlines(scene, normal="y", offset=0.0):
     -------
     (M, 5) ndarray
         ``u, v`` centre, full width, full height (reduced length) and angle (degrees,
-        counter-clockwise from the first in-plane axis) of each cut body's outline.
+        counter-clockwise from the first in-plane axis) of each cut body's outline;
+        for a periodic scene, the periodic images that reach into the box too.
     """
     e1, e2, k = slice_frame(normal)
     E = np.stack([e1, e2], axis=1)  # (3, 2)
     origin = np.zeros(3)
     origin[k] = float(offset)
-    w = origin[None, :] - scene.positions  # (N, 3)
-    inv = 1.0 / scene.semi_axes**2
-    M = np.einsum("nij,nj,nkj->nik", scene.rotations, inv, scene.rotations)
+    pos = np.asarray(scene.positions, dtype=float)
+    rot, axes = scene.rotations, scene.semi_axes
+    if scene.boundary == "periodic":
+        # Bodies wrapped into the box plus the images that reach into it.
+        box = np.asarray(scene.box, dtype=float)
+        pos = np.mod(pos, box)
+        shifts = np.array([[i, j, m] for i in (-1, 0, 1) for j in (-1, 0, 1) for m in (-1, 0, 1)]) * box
+        pos = (pos[None, :, :] + shifts[:, None, :]).reshape(-1, 3)
+        rot = np.tile(rot, (len(shifts), 1, 1))
+        axes = np.tile(axes, (len(shifts), 1))
+        reach = np.max(axes, axis=1)
+        inside = np.all((pos > -reach[:, None]) & (pos < box + reach[:, None]), axis=1)
+        pos, rot, axes = pos[inside], rot[inside], axes[inside]
+    w = origin[None, :] - pos  # (N, 3)
+    inv = 1.0 / axes**2
+    M = np.einsum("nij,nj,nkj->nik", rot, inv, rot)
     A = np.einsum("ia,nij,jb->nab", E, M, E)
     b = np.einsum("ia,nij,nj->na", E, M, w)
     c = np.einsum("ni,nij,nj->n", w, M, w)

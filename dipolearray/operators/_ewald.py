@@ -109,6 +109,7 @@ class EwaldOperator(InteractionOperator):
         self._weight = np.ascontiguousarray(2.0 * 4.0 * math.pi / V * np.exp(-k2 / (4 * self.alpha**2)) / k2)
         self._kvec = np.ascontiguousarray(kvec)
         self._hkl = np.ascontiguousarray(hkl + H[None, :], dtype=np.int64)
+        self._H = H
         self._phases = []
         self._phases_t = []
         for ax in range(3):
@@ -142,6 +143,30 @@ class EwaldOperator(InteractionOperator):
             f"{self.n_kvectors} k-vectors (half space), accuracy {self.accuracy:g}"
         )
 
-    def field_at(self, points, moments):  # pragma: no cover - declared limitation
-        """Not available yet for periodic scenes."""
-        raise InputError("points: field maps of periodic scenes are not available yet", "points")
+    def field_at(self, points, moments):
+        """Field of every body and every periodic image at arbitrary points (no applied field).
+
+        Parameters
+        ----------
+        points : (M, 3) ndarray of float, reduced length
+            Anywhere; wrapped into the box.
+        moments : (N, 3, K) ndarray of float or complex
+
+        Returns
+        -------
+        (M, 3, K) ndarray
+
+        Notes
+        -----
+        The same splitting as :meth:`apply` (real space by the cell list, minimum image;
+        reciprocal space over the same k-vectors) with no self term (a point is not a
+        dipole) and no surface term (conducting boundary).
+        """
+        from ._kernels import ewald_field_at
+
+        x = np.mod(np.asarray(points, dtype=np.float64), self.box)
+        x[x >= self.box] = 0.0
+        p = np.asarray(moments)
+        if np.iscomplexobj(p):
+            return ewald_field_at(self, x, p.real) + 1j * ewald_field_at(self, x, p.imag)
+        return ewald_field_at(self, x, p)

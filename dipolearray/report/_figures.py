@@ -52,16 +52,25 @@ def run_figures(sol, folder, *, enhancement=None, resolution=161, prefix=""):
         f"{along}; arrows show the real part of the moment for up to 400 bodies.",
         plot_bodies(sol, direction=k),
     )
-    if scene.boundary == "open":
+    if scene.n_bodies:
         normal = _slice_normal(scene, k)
-        offset = float(np.mean(scene.positions[:, "xyz".index(normal)]))
+        ax_i = "xyz".index(normal)
+        if scene.boundary == "periodic":
+            offset = 0.5 * float(scene.box[ax_i])
+        else:
+            offset = float(np.mean(scene.positions[:, ax_i]))
         data = field_slice(sol, normal=normal, offset=offset, direction=k, resolution=resolution)
         add(
             "field_slice",
             "Field magnitude on a slice",
             f"|E|/|E0| on the plane {normal} = {offset:.3g} (reduced length) for the field along {along}; "
             "outlines where the bodies cut the plane; inside a body the uniform interior field. "
-            "The point-dipole model underestimates the field in narrow gaps.",
+            "The point-dipole model underestimates the field in narrow gaps."
+            + (
+                " Periodic box: one cell, every image summed by Ewald."
+                if scene.boundary == "periodic"
+                else ""
+            ),
             plot_field_slice(sol, data=data, direction=k),
         )
     add(
@@ -82,9 +91,7 @@ def run_figures(sol, folder, *, enhancement=None, resolution=161, prefix=""):
 
 
 def figure_notes(sol):
-    """Figures a solve cannot have, with the reason (``[(name, why)]``)."""
-    if sol.scene.boundary == "periodic":
-        return [("field_slice", "field maps of periodic scenes are not available yet (open scenes only)")]
+    """Figures a solve cannot have, with the reason (``[(name, why)]``); every scene has all today."""
     return []
 
 

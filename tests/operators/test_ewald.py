@@ -99,3 +99,61 @@ def test_backend_choice_and_errors():
         EwaldOperator(da.Scene([[0, 0, 0]], POP))
     with pytest.raises(da.InputError, match="accuracy"):
         EwaldOperator(s, accuracy=0.5)
+
+
+@pytest.mark.parametrize("eps", [20.0, 20.0 - 1.0j], ids=["real", "complex"])
+def test_field_at_points_equals_the_field_at_zero_moment_ghost_bodies(eps):
+    # Independent path: the Ewald operator's own apply, with tiny ghost bodies carrying no
+    # moment at the probe points, gives the field of all bodies and images there.
+    from dipolearray.arrange import random_sequential_addition
+    from dipolearray.operators import make_operator
+
+    arr = random_sequential_addition(50, 0.15, region="periodic", rng=2)
+    box = arr.box
+    pop = da.Population(da.Sphere(1.0), da.Material(eps))
+    sc = da.Scene.from_arrangement(arr, pop, host=da.Material(2.0))
+    sol = da.solve(sc)
+    rng = np.random.default_rng(0)
+    pts = []
+    while len(pts) < 6:
+        x = rng.uniform(-0.5, 1.5, 3) * box  # also outside the primary cell: wrapped
+        d = x - sc.positions
+        d -= box * np.round(d / box)
+        if np.min(np.linalg.norm(d, axis=1)) > 1.2:
+            pts.append(x)
+    pts = np.array(pts)
+    field = make_operator(sc).field_at(pts, np.asarray(sol.moments))
+    ghost = da.Population(da.Sphere(0.01), da.Material(1.0))
+    sc2 = da.Scene(
+        np.vstack([sc.positions, np.mod(pts, box)]),
+        (pop, ghost),
+        population_index=np.r_[np.zeros(50, int), np.ones(6, int)],
+        host=da.Material(2.0),
+        boundary="periodic",
+        box=box,
+    )
+    moments = np.concatenate(
+        [np.asarray(sol.moments), np.zeros((6, 3, 3), dtype=np.asarray(sol.moments).dtype)]
+    )
+    ref = make_operator(sc2).apply(moments)[50:]
+    assert np.max(np.abs(field - ref)) < 1e-8 * np.max(np.abs(ref))
+
+
+def test_periodic_field_slice_and_outlines():
+    from dipolearray.arrange import lattice
+    from dipolearray.observables import field_slice, slice_outlines
+
+    arr = lattice("sc", radius=1.0, volume_fraction=0.2, sample="periodic", cells=2)
+    sc = da.Scene.from_arrangement(
+        arr, da.Population(da.Sphere(1.0), da.Material(10.0)), host=da.Material(1.0)
+    )
+    sol = da.solve(sc)
+    d = field_slice(sol, normal="x", offset=float(sc.positions[0, 0]), resolution=41)
+    a = float(sc.box[0]) / 2
+    # Cubic symmetry: the map repeats with the lattice constant along both in-plane axes.
+    np.testing.assert_allclose(d["magnitude"][:21, :21], d["magnitude"][20:, 20:], rtol=1e-6)
+    assert d["u"][-1] == pytest.approx(2 * a)
+    cuts = slice_outlines(sc, "x", float(sc.positions[0, 0]))
+    # Four bodies of the plane plus the images reaching into the box across its edges.
+    assert len(cuts) >= 4
+    np.testing.assert_allclose(cuts[:, 2], 2.0)  # full width of a central cut

@@ -9,7 +9,14 @@ from __future__ import annotations
 import numpy as np
 
 from ._dipole import assemble_dense, field_1, field_3, pair_forces
-from ._ewald import ewald_real, ewald_reciprocal, screening_table
+from ._ewald import (
+    ewald_real,
+    ewald_real_at,
+    ewald_reciprocal,
+    ewald_reciprocal_at,
+    screening_table,
+    structure_factors,
+)
 from ._jit import get_num_threads, set_num_threads
 
 __all__ = [
@@ -17,6 +24,7 @@ __all__ = [
     "dense_coupling",
     "dipole_pair_forces",
     "ewald_field",
+    "ewald_field_at",
     "screening_table",
     "set_num_threads",
     "get_num_threads",
@@ -106,4 +114,29 @@ def ewald_field(op, moments):
     ext, eyt, ezt = op._phases_t
     ewald_reciprocal(ex, ey, ez, ext, eyt, ezt, op._hkl, op._kvec, op._weight, p, out)
     out += op._self * p
+    return out
+
+
+def ewald_field_at(op, points, moments, chunk=4096):
+    """Ewald field of an ``EwaldOperator``'s bodies at ``(M, 3)`` points (in the box) from real moments."""
+    import math
+
+    x = np.ascontiguousarray(points, dtype=np.float64)
+    p = np.ascontiguousarray(moments, dtype=np.float64)
+    L = op.box
+    ncell = op._ncell
+    out = np.empty((x.shape[0], 3, p.shape[2]))
+    A = structure_factors(*op._phases_t, op._hkl, op._kvec, p)
+    for a in range(0, x.shape[0], chunk):
+        xb = x[a : a + chunk]
+        cell = np.minimum((xb / (L / ncell)).astype(np.int64), ncell - 1)
+        ob = np.empty((xb.shape[0], 3, p.shape[2]))
+        ewald_real_at(xb, np.ascontiguousarray(cell), op._pos, p, L, op.alpha, op.r_cut, op._start, op._items,
+                      ncell, ob)  # fmt: skip
+        ph = [
+            np.ascontiguousarray(np.exp(2j * math.pi * np.outer(xb[:, ax], np.arange(-h, h + 1)) / L[ax]))
+            for ax, h in enumerate(op._H)
+        ]
+        ewald_reciprocal_at(*ph, op._hkl, op._kvec, op._weight, A, ob)
+        out[a : a + chunk] = ob
     return out

@@ -157,3 +157,85 @@ def ewald_reciprocal(ex, ey, ez, ext, eyt, ezt, hkl, kvec, weight, p, out):
                 out[i, 0, q] -= s * kvec[t, 0]
                 out[i, 1, q] -= s * kvec[t, 1]
                 out[i, 2, q] -= s * kvec[t, 2]
+
+
+@numba.njit(**JIT_PARALLEL)
+def ewald_real_at(x, cell_x, pos, p, box, alpha, rc, start, items, ncell, out):
+    """Real-space field at target points ``x`` (cell indices ``cell_x``) of all bodies (minimum image).
+
+    Like :func:`ewald_real` with targets apart from the sources; coincident pairs are skipped.
+    """
+    m = x.shape[0]
+    kk = p.shape[2]
+    rc2 = rc * rc
+    a2 = alpha * alpha
+    for i in numba.prange(m):
+        ax = np.empty(3, np.int64)
+        ay = np.empty(3, np.int64)
+        az = np.empty(3, np.int64)
+        acc = np.zeros((3, kk))
+        nx = _axis_cells(cell_x[i, 0], ncell[0], ax)
+        ny = _axis_cells(cell_x[i, 1], ncell[1], ay)
+        nz = _axis_cells(cell_x[i, 2], ncell[2], az)
+        for u in range(nx):
+            for v in range(ny):
+                for w in range(nz):
+                    c = (ax[u] * ncell[1] + ay[v]) * ncell[2] + az[w]
+                    for s in range(start[c], start[c + 1]):
+                        j = items[s]
+                        dx = x[i, 0] - pos[j, 0]
+                        dy = x[i, 1] - pos[j, 1]
+                        dz = x[i, 2] - pos[j, 2]
+                        dx -= box[0] * math.floor(dx / box[0] + 0.5)
+                        dy -= box[1] * math.floor(dy / box[1] + 0.5)
+                        dz -= box[2] * math.floor(dz / box[2] + 0.5)
+                        r2 = dx * dx + dy * dy + dz * dz
+                        if r2 >= rc2 or r2 == 0.0:
+                            continue
+                        r = math.sqrt(r2)
+                        ar = alpha * r
+                        g = _TWO_OVER_SQRT_PI * ar * math.exp(-a2 * r2)
+                        e = math.erfc(ar)
+                        B = (e + g) / (r2 * r)
+                        C = (3.0 * e + g * (3.0 + 2.0 * a2 * r2)) / (r2 * r2 * r)
+                        for q in range(kk):
+                            pr = p[j, 0, q] * dx + p[j, 1, q] * dy + p[j, 2, q] * dz
+                            acc[0, q] += pr * C * dx - p[j, 0, q] * B
+                            acc[1, q] += pr * C * dy - p[j, 1, q] * B
+                            acc[2, q] += pr * C * dz - p[j, 2, q] * B
+        for c3 in range(3):
+            for q in range(kk):
+                out[i, c3, q] = acc[c3, q]
+
+
+@numba.njit(**JIT_PARALLEL)
+def structure_factors(ext, eyt, ezt, hkl, kvec, p):
+    """``A(k) = sum_j (k . p_j) exp(-i k . r_j)`` for every k-vector, ``(n_k, K)``."""
+    n = p.shape[0]
+    kk = p.shape[2]
+    m = hkl.shape[0]
+    A = np.zeros((m, kk), dtype=np.complex128)
+    for t in numba.prange(m):
+        rx = ext[hkl[t, 0]]
+        ry = eyt[hkl[t, 1]]
+        rz = ezt[hkl[t, 2]]
+        for i in range(n):
+            cph = (rx[i] * ry[i] * rz[i]).conjugate()
+            for q in range(kk):
+                A[t, q] += (kvec[t, 0] * p[i, 0, q] + kvec[t, 1] * p[i, 1, q] + kvec[t, 2] * p[i, 2, q]) * cph
+    return A
+
+
+@numba.njit(**JIT_PARALLEL)
+def ewald_reciprocal_at(ex, ey, ez, hkl, kvec, weight, A, out):
+    """Reciprocal field at targets (phases ``ex[i, h + H]``) from structure factors ``A``, into ``out``."""
+    m = ex.shape[0]
+    kk = A.shape[1]
+    for i in numba.prange(m):
+        for t in range(hkl.shape[0]):
+            ph = ex[i, hkl[t, 0]] * ey[i, hkl[t, 1]] * ez[i, hkl[t, 2]]
+            for q in range(kk):
+                s = weight[t] * (ph * A[t, q]).real
+                out[i, 0, q] -= s * kvec[t, 0]
+                out[i, 1, q] -= s * kvec[t, 1]
+                out[i, 2, q] -= s * kvec[t, 2]
