@@ -23,21 +23,27 @@ def add_arguments(p):
     p.add_argument(
         "--resolution", type=int, default=161, help="field-slice grid points per side (default 161)"
     )
+    p.add_argument("--quiet", action="store_true", help="no progress bar, no output")
     p.add_argument("--json", action="store_true", help="print the written files as JSON")
 
 
 def run(args) -> int:
     """Run ``figures``."""
     from ..report import write_figures
+    from ._progress import StageBar
 
-    figs = write_figures(args.path, args.output_dir, resolution=args.resolution)
+    bar = StageBar(enabled=not args.json and not args.quiet)
+    try:
+        figs = write_figures(args.path, args.output_dir, resolution=args.resolution, progress=bar)
+    finally:
+        bar.close()
     if args.json:
         print(
             json.dumps(
                 [{"name": f["name"], "png": str(f["png"]), "svg": str(f["svg"])} for f in figs], indent=2
             )
         )
-    else:
+    elif not args.quiet:
         for f in figs:
             print(f"wrote {f['png']} and {f['svg'].name}")
     return 0

@@ -24,16 +24,27 @@ def add_arguments(p):
     p.add_argument(
         "--resolution", type=int, default=161, help="field-slice grid points per side (default 161)"
     )
+    p.add_argument("--quiet", action="store_true", help="no progress bar, no output")
     p.add_argument("--json", action="store_true", help="print the written paths as JSON")
 
 
 def run(args) -> int:
     """Run ``report``."""
     from ..report import write_report
+    from ._progress import StageBar
 
-    out = write_report(
-        args.path, args.output, format=args.format, overwrite=args.overwrite, resolution=args.resolution
-    )
+    bar = StageBar(enabled=not args.json and not args.quiet)
+    try:
+        out = write_report(
+            args.path,
+            args.output,
+            format=args.format,
+            overwrite=args.overwrite,
+            resolution=args.resolution,
+            progress=bar,
+        )
+    finally:
+        bar.close()
     if args.json:
         print(
             json.dumps(
@@ -48,6 +59,6 @@ def run(args) -> int:
                 indent=2,
             )
         )
-    else:
+    elif not args.quiet:
         print(f"wrote {out['report']} ({out['kind']} report, {len(out['figures'])} figure(s))")
     return 0

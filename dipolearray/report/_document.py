@@ -84,7 +84,7 @@ def _cautions(notes):
     return blocks
 
 
-def _result_blocks(path, figures_dir, prefix, resolution):
+def _result_blocks(path, figures_dir, prefix, resolution, progress=None):
     from ..observables import field_enhancement
     from ..store import load_result, read_config_text
     from ._figures import figure_notes, run_figures
@@ -94,7 +94,9 @@ def _result_blocks(path, figures_dir, prefix, resolution):
     text = read_config_text(path)
     enh = field_enhancement(sol)
     info = run_summary(sol, enhancement=enh)
-    figs = run_figures(sol, figures_dir, enhancement=enh, resolution=resolution, prefix=prefix)
+    figs = run_figures(
+        sol, figures_dir, enhancement=enh, resolution=resolution, prefix=prefix, progress=progress
+    )
     name = _run_name(text, Path(path).stem)
     scene = sol.scene
     b = [("h1", f"dipolearray report: {name}")]
@@ -496,7 +498,7 @@ def _markdown(blocks, folder_name):
     return "\n".join(out)
 
 
-def write_report(path, output=None, *, format="html", overwrite=False, resolution=161):
+def write_report(path, output=None, *, format="html", overwrite=False, resolution=161, progress=None):
     """Write a self-contained report of a result file or a sweep file.
 
     Parameters
@@ -512,6 +514,8 @@ def write_report(path, output=None, *, format="html", overwrite=False, resolutio
         Replace an existing report.
     resolution : int
         Grid points per side of the field slice.
+    progress : callable, optional
+        ``progress(stage, done, total)`` while the figures are made.
 
     Returns
     -------
@@ -528,7 +532,7 @@ def write_report(path, output=None, *, format="html", overwrite=False, resolutio
         raise InputError(f"output: {out} exists; pass --overwrite to replace it", "output")
     folder = out.with_name(out.stem + "_figures")
     if kind == "result":
-        _name, blocks, figs = _result_blocks(path, folder, "", resolution)
+        _name, blocks, figs = _result_blocks(path, folder, "", resolution, progress)
     else:
         _name, blocks, figs = _sweep_blocks(path, folder, "")
     text = _html(blocks, folder.name) if format == "html" else _markdown(blocks, folder.name)
@@ -539,7 +543,7 @@ def write_report(path, output=None, *, format="html", overwrite=False, resolutio
     return {"report": out, "figures": figs, "kind": kind}
 
 
-def write_figures(path, folder=None, *, resolution=161):
+def write_figures(path, folder=None, *, resolution=161, progress=None):
     """Write the figures of a result or sweep file (PNG and SVG) without a report.
 
     Returns
@@ -553,6 +557,6 @@ def write_figures(path, folder=None, *, resolution=161):
         from ..store import load_result
         from ._figures import run_figures
 
-        return run_figures(load_result(path), folder, resolution=resolution)
+        return run_figures(load_result(path), folder, resolution=resolution, progress=progress)
     _name, _blocks, figs = _sweep_blocks(path, folder, "")
     return figs

@@ -11,8 +11,10 @@ def _slice_normal(scene, direction):
     return "xyz"[int(np.argmin(e))]
 
 
-def run_figures(sol, folder, *, enhancement=None, resolution=161, prefix=""):
+def run_figures(sol, folder, *, enhancement=None, resolution=161, prefix="", progress=None):
     """Write the figures of one solve (PNG and SVG) into ``folder``.
+
+    ``progress(stage, done, total)`` is told of each figure written.
 
     Figures: the bodies in 3D coloured by moment magnitude with moment arrows; the
     field magnitude on a slice through the sample (open scenes); the residual history;
@@ -44,6 +46,8 @@ def run_figures(sol, folder, *, enhancement=None, resolution=161, prefix=""):
     def add(name, title, caption, ax):
         png, svg = save_figure(ax, folder / f"{prefix}{name}")
         out.append({"name": name, "title": title, "caption": caption, "png": png, "svg": svg})
+        if progress is not None:
+            progress("figures", len(out), 4)
 
     add(
         "bodies",
