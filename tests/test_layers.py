@@ -15,6 +15,7 @@ LAYERS = {
     "solvers": 6,
     "observables": 7,
     "mixing": 8,
+    "spectra": 8,
     "store": 9,
     "sweep": 10,
     "plots": 11,

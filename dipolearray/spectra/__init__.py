@@ -1,0 +1,21 @@
+"""Spectra: the spectral representation of an arrangement and dielectric spectra from it.
+
+The poles and weights of an arrangement's dipole response depend on its geometry
+alone (Bergman 1978; Milton 1981), so one decomposition gives the effective
+permittivity for any host and filler permittivities, and for permittivity models over
+any frequency grid, at negligible cost.
+
+Public names
+------------
+spectral_representation, Spectrum
+    Poles and weights by dense eigendecomposition or block Lanczos; evaluate, sum
+    rules, pole density.
+frequency_response
+    Effective tensor over frequency for two permittivity models.
+bergman_s
+    ``s = eps_h / (eps_h - eps_i)``.
+"""
+
+from ._spectral import Spectrum, bergman_s, frequency_response, spectral_representation
+
+__all__ = ["spectral_representation", "Spectrum", "frequency_response", "bergman_s"]
