@@ -139,3 +139,11 @@ def walk_sweep(f):
         rows = walk(f, "sweep_files.md", expand, {})
         problems += [r for r in rows if r not in problems]
     return problems
+
+
+def walk_spectrum(f):
+    """Walk docs/spectrum_files.md against a spectrum file."""
+    sizes = {"N": f["scene/positions"].shape[0], "M": f["spectrum/poles"].shape[0]}
+    if "response" in f:
+        sizes["F"] = f["response/frequency_Hz"].shape[0]
+    return walk(f, "spectrum_files.md", {}, sizes)

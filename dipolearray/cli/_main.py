@@ -15,6 +15,7 @@ COMMANDS = {
     "check": "dipolearray.cli._check",
     "arrange": "dipolearray.cli._arrange",
     "sweep": "dipolearray.cli._sweep",
+    "spectrum": "dipolearray.cli._spectrum",
     "inspect": "dipolearray.cli._inspect",
     "figures": "dipolearray.cli._figures",
     "report": "dipolearray.cli._report",

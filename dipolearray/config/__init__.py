@@ -22,6 +22,9 @@ run_config
 run_config_sweep, sweep_output_path, sweep_rule_inputs
     Run (or resume) a config's ``[sweep]``; where it goes; the abscissa, fractions and
     permittivities of its state points for the mixing rules.
+run_config_spectrum, dispersion_of, frequency_grid, spectrum_output_path
+    The dielectric spectrum of a config over its ``[frequency]`` grid (spectral
+    representation of the arrangement, the phases' permittivity models).
 parse_assignment
     ``"key=value"`` (command-line ``--set``) into a dotted override.
 ConfigScene
@@ -33,6 +36,7 @@ SECTIONS, config_markdown
 
 from ._build import build_arrangement, build_scene, run_config
 from ._schema import SECTIONS, RunConfig, config_markdown, load_config, parse_assignment, parse_config
+from ._spectrum import dispersion_of, frequency_grid, run_config_spectrum, spectrum_output_path
 from ._sweep import ConfigScene, run_config_sweep, sweep_output_path, sweep_rule_inputs
 
 __all__ = [
@@ -47,6 +51,10 @@ __all__ = [
     "sweep_output_path",
     "sweep_rule_inputs",
     "parse_assignment",
+    "run_config_spectrum",
+    "dispersion_of",
+    "frequency_grid",
+    "spectrum_output_path",
     "SECTIONS",
     "config_markdown",
 ]

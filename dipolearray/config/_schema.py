@@ -48,6 +48,31 @@ SECTIONS = {
         "name": Key("str", "host", "label of the host material"),
         "eps": Key("float", _NO, "relative permittivity eps' of the host", minimum=1e-12, required=True),
         "eps_loss": Key("float", 0.0, "loss part eps'' >= 0 (eps = eps' - j eps'')", minimum=0.0),
+        "model": Key(
+            "str",
+            "constant",
+            "permittivity against frequency (used by `dipolearray spectrum`); eps is eps_inf for the "
+            "relaxation and Drude models",
+            choices=("constant", "debye", "cole_cole", "havriliak_negami", "drude"),
+        ),
+        "delta_eps": Key(
+            "float",
+            0.0,
+            "relaxation strength eps_static - eps_inf (debye, cole_cole, havriliak_negami)",
+            minimum=0.0,
+        ),
+        "tau": Key("time", _NO, "relaxation time (debye, cole_cole, havriliak_negami)", minimum=0.0),
+        "alpha": Key(
+            "float",
+            _NO,
+            "shape: Cole-Cole alpha in [0, 1); Havriliak-Negami alpha in (0, 1]",
+            minimum=0.0,
+            maximum=1.0,
+        ),
+        "beta": Key("float", 1.0, "Havriliak-Negami beta in (0, 1]", minimum=1e-6, maximum=1.0),
+        "plasma_frequency": Key("frequency", _NO, "Drude plasma frequency omega_p / 2 pi", minimum=0.0),
+        "damping": Key("frequency", "0 Hz", "Drude collision frequency gamma / 2 pi"),
+        "conductivity": Key("conductivity", "0 S/m", "DC conductivity (adds -j sigma / (eps0 omega))"),
     },
     "population": {
         "name": Key("str", "filler", "label of the inclusion population"),
@@ -58,6 +83,31 @@ SECTIONS = {
         "semi_axes": Key("length3", _NO, "three semi-axes a, b, c (shape = ellipsoid)"),
         "eps": Key("float", _NO, "relative permittivity eps' of the inclusion", required=True),
         "eps_loss": Key("float", 0.0, "loss part eps'' >= 0", minimum=0.0),
+        "model": Key(
+            "str",
+            "constant",
+            "permittivity against frequency (used by `dipolearray spectrum`); eps is eps_inf for the "
+            "relaxation and Drude models",
+            choices=("constant", "debye", "cole_cole", "havriliak_negami", "drude"),
+        ),
+        "delta_eps": Key(
+            "float",
+            0.0,
+            "relaxation strength eps_static - eps_inf (debye, cole_cole, havriliak_negami)",
+            minimum=0.0,
+        ),
+        "tau": Key("time", _NO, "relaxation time (debye, cole_cole, havriliak_negami)", minimum=0.0),
+        "alpha": Key(
+            "float",
+            _NO,
+            "shape: Cole-Cole alpha in [0, 1); Havriliak-Negami alpha in (0, 1]",
+            minimum=0.0,
+            maximum=1.0,
+        ),
+        "beta": Key("float", 1.0, "Havriliak-Negami beta in (0, 1]", minimum=1e-6, maximum=1.0),
+        "plasma_frequency": Key("frequency", _NO, "Drude plasma frequency omega_p / 2 pi", minimum=0.0),
+        "damping": Key("frequency", "0 Hz", "Drude collision frequency gamma / 2 pi"),
+        "conductivity": Key("conductivity", "0 S/m", "DC conductivity (adds -j sigma / (eps0 omega))"),
         "fraction": Key(
             "float", 1.0, "share of the bodies in this population (normalised over populations)", minimum=0.0
         ),
@@ -202,6 +252,26 @@ SECTIONS = {
         "scheduler": Key("str", "", "address of a running Dask scheduler, e.g. 'tcp://10.0.0.5:8786'"),
         "output": Key("str", "", "sweep HDF5 file; empty: runs/<name>-sweep.h5"),
     },
+    "frequency": {
+        "min": Key("frequency", "1 Hz", "lowest frequency of the grid"),
+        "max": Key("frequency", "1 GHz", "highest frequency of the grid"),
+        "points": Key("int", 200, "frequencies in the grid", minimum=2, maximum=10**6),
+        "spacing": Key("str", "log", "grid spacing", choices=("log", "linear")),
+        "method": Key(
+            "str",
+            "auto",
+            "spectral decomposition: dense eigen (N <= 500 under auto) or block Lanczos",
+            choices=("auto", "eigen", "lanczos"),
+        ),
+        "tol": Key(
+            "float",
+            1e-10,
+            "Lanczos convergence tolerance (relative change of the response)",
+            minimum=1e-15,
+            maximum=1e-2,
+        ),
+        "output": Key("str", "", "spectrum HDF5 file; empty: runs/<name>-spectrum.h5"),
+    },
     "output": {
         "observables": Key(
             "list[str]",
@@ -214,7 +284,20 @@ SECTIONS = {
 
 _LIST_SECTIONS = {"population"}
 _REQUIRED_SECTIONS = ("host", "population")
-_UNITS = {"length": ("m", "[length]"), "field": ("V/m", "[mass] * [length] / [current] / [time] ** 3")}
+_UNITS = {
+    "length": ("m", "[length]"),
+    "field": ("V/m", "[mass] * [length] / [current] / [time] ** 3"),
+    "time": ("s", "[time]"),
+    "frequency": ("Hz", "1 / [time]"),
+    "conductivity": ("S/m", "conductance / length"),
+}
+_EXAMPLES = {
+    "length": "'0.5 um'",
+    "field": "'1 kV/mm'",
+    "time": "'10 us'",
+    "frequency": "'1 MHz'",
+    "conductivity": "'1e-6 S/m'",
+}
 _UREG = None
 
 
@@ -230,7 +313,7 @@ def _ureg():
 def quantity(text, kind: str, where: str) -> float:
     """Parse ``"0.25 um"`` / ``"1 kV/mm"`` into SI (m or V/m), naming ``where`` on error."""
     unit, _dim = _UNITS[kind]
-    example = "'0.5 um'" if kind == "length" else "'1 kV/mm'"
+    example = _EXAMPLES[kind]
     if isinstance(text, bool) or isinstance(text, numbers.Number):
         raise ConfigError(f"{where}: give a unit with the number, e.g. {example} (got {text!r})", where)
     if not isinstance(text, str):
@@ -287,10 +370,12 @@ def _check_value(value, key: Key, where: str):
         return int(value)
     if k == "float":
         return _check_number(value, key, where)
-    if k in ("length", "field"):
+    if k in ("length", "field", "time", "frequency", "conductivity"):
         v = quantity(value, k, where)
-        if key.minimum is not None and v <= key.minimum and k == "length" and key.minimum == 0.0:
+        if key.minimum is not None and v <= key.minimum and key.minimum == 0.0 and k != "field":
             raise ConfigError(f"{where}: must be positive, got {value!r}", where)
+        if v < 0:
+            raise ConfigError(f"{where}: must not be negative, got {value!r}", where)
         return v
     if k == "length3":
         if not isinstance(value, list) or len(value) != 3:
@@ -359,7 +444,9 @@ def _section(raw, name: str, where: str) -> MappingProxyType:
             raise ConfigError(f"{where}.{key}: required key is missing ({k.doc})", f"{where}.{key}")
         elif k.default is None:
             out[key] = None
-        elif k.kind in ("length", "field") and isinstance(k.default, str):
+        elif k.kind in ("length", "field", "time", "frequency", "conductivity") and isinstance(
+            k.default, str
+        ):
             out[key] = quantity(k.default, k.kind, f"{where}.{key}")
         else:
             out[key] = k.default
@@ -377,6 +464,7 @@ class RunConfig:
     field: MappingProxyType
     solver: MappingProxyType
     output: MappingProxyType
+    frequency: MappingProxyType
     text: str
     source: str
     sweep: MappingProxyType | None = None
@@ -472,7 +560,8 @@ def parse_config(text: str, source: str = "<config>", overrides=None, *, check_s
     if sum(p["fraction"] for p in pops) <= 0:
         raise ConfigError("population[0].fraction: fractions must not all be zero", "population[0].fraction")
     sections = {
-        n: _section(raw.get(n, {}), n, n) for n in ("run", "host", "arrangement", "field", "solver", "output")
+        n: _section(raw.get(n, {}), n, n)
+        for n in ("run", "host", "arrangement", "field", "solver", "output", "frequency")
     }
     arr = sections["arrangement"]
     kind = arr["kind"]
@@ -520,6 +609,11 @@ def parse_config(text: str, source: str = "<config>", overrides=None, *, check_s
             )
     if arr["gap"] is not None and arr["gap"] < 0:
         raise ConfigError("arrangement.gap: must be >= 0", "arrangement.gap")
+    for where, phase in [("host", sections["host"])] + [(f"population[{i}]", p) for i, p in enumerate(pops)]:
+        _check_model(phase, where)
+    fr = sections["frequency"]
+    if fr["max"] <= fr["min"]:
+        raise ConfigError(f"frequency.max: must exceed frequency.min ({fr['min']:g} Hz)", "frequency.max")
     if sections["solver"]["rtol"] == 0 and sections["solver"]["atol"] == 0:
         raise ConfigError("solver.rtol: rtol and atol cannot both be zero", "solver.rtol")
     sweep = None
@@ -535,6 +629,25 @@ def parse_config(text: str, source: str = "<config>", overrides=None, *, check_s
         overrides=tuple((str(k), v) for k, v in (overrides or {}).items()),
         **sections,
     )
+
+
+def _check_model(phase, where):
+    model = phase["model"]
+    need = {
+        "debye": ("tau",),
+        "cole_cole": ("tau", "alpha"),
+        "havriliak_negami": ("tau", "alpha"),
+        "drude": ("plasma_frequency",),
+    }.get(model, ())
+    for key in need:
+        if phase[key] is None:
+            raise ConfigError(f"{where}.{key}: required for model = {model!r}", f"{where}.{key}")
+    if model == "cole_cole" and phase["alpha"] >= 1.0:
+        raise ConfigError(f"{where}.alpha: Cole-Cole alpha must be < 1", f"{where}.alpha")
+    if model == "havriliak_negami" and phase["alpha"] <= 0.0:
+        raise ConfigError(f"{where}.alpha: Havriliak-Negami alpha must be > 0", f"{where}.alpha")
+    if model in ("constant", "drude") and phase["delta_eps"]:
+        raise ConfigError(f"{where}.delta_eps: only relaxation models take delta_eps", f"{where}.delta_eps")
 
 
 def _check_sweep(sweep, text, source, overrides, sections, n_pops):
@@ -627,7 +740,8 @@ def config_markdown() -> str:
         "",
         "Generated from `dipolearray/config/_schema.py` (`tests/config/test_config.py` checks",
         "that this page matches). Lengths and fields are strings with an explicit unit",
-        "(`'0.5 um'`, `'20 nm'`, `'1 kV/mm'`, `'2 V/um'`); permittivities are relative and",
+        "(`'0.5 um'`, `'20 nm'`, `'1 kV/mm'`, `'2 V/um'`, `'10 us'`, `'1 MHz'`, `'1e-6 S/m'`);",
+        "permittivities are relative and",
         "follow `eps = eps' - j eps''` with `eps_loss = eps'' >= 0`.",
         "",
     ]
@@ -648,9 +762,15 @@ def config_markdown() -> str:
                 allowed.append(f">= {k.minimum:g}")
             if k.maximum is not None:
                 allowed.append(f"<= {k.maximum:g}")
-            unit = {"length": "length", "field": "field", "length3": "3 lengths", "values": "list"}.get(
-                k.kind, k.kind
-            )
+            unit = {
+                "length": "length",
+                "field": "field",
+                "length3": "3 lengths",
+                "values": "list",
+                "time": "time",
+                "frequency": "frequency",
+                "conductivity": "conductivity",
+            }.get(k.kind, k.kind)
             lines.append(f"| `{key}` | {unit} | {default} | {'; '.join(allowed)} | {k.doc} |")
         lines.append("")
     return "\n".join(lines)

@@ -19,6 +19,9 @@ plot_enhancement_histogram
 plot_sweep
     Effective permittivity against volume fraction (or any swept parameter) with error
     bars, mixing rules and Hashin-Shtrikman bounds.
+plot_dielectric_spectrum, plot_cole_cole, plot_pole_density
+    eps' and eps'' against frequency with mixing rules and the loss peak; the Cole-Cole
+    plot; the pole density of a spectral representation.
 save_figure
     Write a figure as PNG and SVG.
 OKABE_ITO, SEQUENTIAL, DPI
@@ -27,6 +30,7 @@ OKABE_ITO, SEQUENTIAL, DPI
 
 from ._common import DPI, OKABE_ITO, SEQUENTIAL, save_figure
 from ._figures import plot_bodies, plot_enhancement_histogram, plot_field_slice, plot_residual_history
+from ._spectra import plot_cole_cole, plot_dielectric_spectrum, plot_pole_density
 from ._sweep import plot_sweep
 
 __all__ = [
@@ -35,6 +39,9 @@ __all__ = [
     "plot_residual_history",
     "plot_enhancement_histogram",
     "plot_sweep",
+    "plot_dielectric_spectrum",
+    "plot_cole_cole",
+    "plot_pole_density",
     "save_figure",
     "OKABE_ITO",
     "SEQUENTIAL",

@@ -54,15 +54,19 @@ def _file_kind(path):
     fmt = fmt.decode() if isinstance(fmt, bytes) else fmt
     if fmt == SWEEP_FORMAT:
         return "sweep"
+    from ..store import SPECTRUM_FORMAT_NAME
+
+    if fmt == SPECTRUM_FORMAT_NAME:
+        return "spectrum"
     if fmt == FORMAT_NAME:
         return "result"
     from ..errors import SchemaError
 
-    raise SchemaError(f"{p}: not a dipolearray result or sweep file (format attribute {fmt!r})")
+    raise SchemaError(f"{p}: not a dipolearray result, sweep or spectrum file (format attribute {fmt!r})")
 
 
 def file_kind(path) -> str:
-    """``"result"`` or ``"sweep"``: what a dipolearray HDF5 file holds (``SchemaError`` otherwise)."""
+    """What a dipolearray HDF5 file holds: ``"result"``, ``"sweep"`` or ``"spectrum"`` (else SchemaError)."""
     return _file_kind(path)
 
 
@@ -425,6 +429,76 @@ def _sweep_blocks(path, figures_dir, prefix):
     return name, b, figs
 
 
+def _spectrum_blocks(path, figures_dir, prefix):
+    from ..spectra import loss_peak
+    from ..store import load_spectrum
+    from ._figures import spectrum_figures
+
+    sp, resp, text = load_spectrum(path)
+    name = _run_name(text, Path(path).stem)
+    b = [("h1", f"dipolearray spectrum report: {name}")]
+    b.append(("p", f"Spectrum file {Path(path).name}; report written by dipolearray {__version__} at "
+              f"{_dt.datetime.now(_dt.UTC).isoformat(timespec='seconds')}."))  # fmt: skip
+    b += _cautions([])
+    b.append(("h2", "Inputs"))
+    if text:
+        b.append(("pre", text))
+    b.append(("h2", "Spectral representation"))
+    rows = [
+        ("boundary", sp.boundary),
+        ("volume fraction", f"{sp.volume_fraction:.5g}"),
+        ("method", sp.method),
+        ("poles", len(sp.poles)),
+        ("operator applies", sp.n_applies),
+        ("converged", f"{sp.converged} (last relative change {sp.estimate:.2g})"),
+        (
+            "residue sum (isotropic; the volume fraction for a periodic box)",
+            f"{np.trace(sp.residue_sum()) / 3:.8g}",
+        ),
+        ("first moment of the residues (isotropic)", f"{np.trace(sp.first_moment()) / 3:.6g}"),
+    ]
+    b.append(("table", ("item", "value"), rows))
+    b.append(
+        (
+            "p",
+            "The poles and residues depend on the geometry alone (Bergman 1978; Milton 1981): the same "
+            "file gives the effective permittivity for any other host and filler permittivities.",
+        )
+    )
+    if resp is not None:
+        f = resp["frequency_Hz"]
+        b.append(("h2", "Composite over frequency"))
+        pk = loss_peak(f, resp["eps_loss"])
+        rows = [
+            ("computed", f"{pk['frequency_hz']:.4g}", f"{pk['eps_loss']:.4g}", f"{pk['width_decades']:.3g}")
+        ]
+        if "maxwell_garnett" in resp:
+            mg = resp["maxwell_garnett"]
+            m = loss_peak(f, -mg.imag)
+            rows.append(("Maxwell Garnett (same phases)", f"{m['frequency_hz']:.4g}", f"{m['eps_loss']:.4g}",
+                         f"{m['width_decades']:.3g}"))  # fmt: skip
+        b.append(("table", ("loss peak", "frequency (Hz)", "eps''", "width (decades)"), rows))
+        if not pk["inside"]:
+            b.append(
+                (
+                    "p",
+                    "The largest loss is at an end of the frequency grid: widen [frequency] to see the peak.",
+                )
+            )
+        picks = np.unique(np.linspace(0, len(f) - 1, min(len(f), 9)).astype(int))
+        rows = [
+            (f"{f[i]:.4g}", f"{resp['eps_real'][i]:.6g}", f"{resp['eps_loss'][i]:.4g}",
+             f"{resp['loss_tangent'][i]:.4g}", f"{resp['conductivity_S_per_m'][i]:.4g}")
+            for i in picks
+        ]  # fmt: skip
+        b.append(("table", ("frequency (Hz)", "eps'", "eps''", "loss tangent", "sigma' (S/m)"), rows))
+    figs = spectrum_figures(sp, resp, figures_dir, prefix=prefix)
+    b.append(("h2", "Figures"))
+    for fig in figs:
+        b.append(("figure", fig))
+    return name, b, figs
+
+
 # ---------------------------------------------------------------- rendering
 
 _CSS = """body{font-family:system-ui,sans-serif;max-width:60em;margin:2em auto;padding:0 1em;color:#111}
@@ -533,6 +607,8 @@ def write_report(path, output=None, *, format="html", overwrite=False, resolutio
     folder = out.with_name(out.stem + "_figures")
     if kind == "result":
         _name, blocks, figs = _result_blocks(path, folder, "", resolution, progress)
+    elif kind == "spectrum":
+        _name, blocks, figs = _spectrum_blocks(path, folder, "")
     else:
         _name, blocks, figs = _sweep_blocks(path, folder, "")
     text = _html(blocks, folder.name) if format == "html" else _markdown(blocks, folder.name)
@@ -558,5 +634,11 @@ def write_figures(path, folder=None, *, resolution=161, progress=None):
         from ._figures import run_figures
 
         return run_figures(load_result(path), folder, resolution=resolution, progress=progress)
+    if kind == "spectrum":
+        from ..store import load_spectrum
+        from ._figures import spectrum_figures
+
+        sp, resp, _text = load_spectrum(path)
+        return spectrum_figures(sp, resp, folder)
     _name, _blocks, figs = _sweep_blocks(path, folder, "")
     return figs

@@ -131,3 +131,48 @@ def sweep_figures(result, folder, inputs, *, prefix=""):
             "svg": svg,
         }
     ]
+
+
+def spectrum_figures(spectrum, response, folder, *, prefix=""):
+    """Write the figures of a spectrum file: eps' and eps'' over frequency, Cole-Cole, pole density."""
+    from ..plots import plot_cole_cole, plot_dielectric_spectrum, plot_pole_density, save_figure
+    from ..spectra import loss_peak
+
+    folder = Path(folder)
+    out = []
+    rules = {}
+    if response is not None and "maxwell_garnett" in response:
+        rules["Maxwell Garnett (same phases)"] = response["maxwell_garnett"]
+    if response is not None:
+        f = response["frequency_Hz"]
+        eps = response["eps_tensor"]
+        peak = loss_peak(f, response["eps_loss"])
+        axes = plot_dielectric_spectrum(f, eps, rules=rules, peak=peak)
+        png, svg = save_figure(axes[0], folder / f"{prefix}dielectric_spectrum")
+        out.append({
+            "name": "dielectric_spectrum",
+            "title": "Dielectric spectrum",
+            "caption": "Isotropic eps' (top) and eps'' (bottom) of the composite against frequency, with "
+            "Maxwell Garnett for the same phases at the same volume fraction; the loss peak is marked.",
+            "png": png,
+            "svg": svg,
+        })  # fmt: skip
+        png, svg = save_figure(plot_cole_cole(eps, rules=rules), folder / f"{prefix}cole_cole")
+        out.append({
+            "name": "cole_cole",
+            "title": "Cole-Cole plot",
+            "caption": "eps'' against eps' over the frequency grid: a Debye relaxation is a semicircle, "
+            "a distribution of relaxation times flattens it.",
+            "png": png,
+            "svg": svg,
+        })  # fmt: skip
+    png, svg = save_figure(plot_pole_density(spectrum), folder / f"{prefix}pole_density")
+    out.append({
+        "name": "pole_density",
+        "title": "Pole density",
+        "caption": "Residues of the spectral representation over the pole positions s_n; isolated "
+        "spheres all sit at s = 1/3, neighbours spread the poles, chains and clusters further.",
+        "png": png,
+        "svg": svg,
+    })  # fmt: skip
+    return out

@@ -14,8 +14,11 @@ frequency_response
     Effective tensor over frequency for two permittivity models.
 bergman_s
     ``s = eps_h / (eps_h - eps_i)``.
+loss_peak
+    Frequency, height and width (decades) of the loss peak of a sampled spectrum.
 """
 
+from ._analysis import loss_peak
 from ._spectral import Spectrum, bergman_s, frequency_response, spectral_representation
 
-__all__ = ["spectral_representation", "Spectrum", "frequency_response", "bergman_s"]
+__all__ = ["spectral_representation", "Spectrum", "frequency_response", "bergman_s", "loss_peak"]

@@ -22,6 +22,8 @@ SCHEMA, SCHEMA_VERSION, schema_markdown
     The layout declaration and its rendering for the docs.
 SWEEP_SCHEMA, SWEEP_FORMAT_NAME, sweep_schema_markdown
     The same for sweep files.
+save_spectrum, load_spectrum, SPECTRUM_SCHEMA, SPECTRUM_FORMAT_NAME, spectrum_schema_markdown
+    Spectrum files: poles and weights of an arrangement and the response over frequency.
 open_sweep, read_sweep, SweepStore
     Sweep files: one group per state point and realization, written as results arrive
     (``/points/p0000/r0000/eps_tensor`` with the solve record as attributes).
@@ -32,11 +34,15 @@ from ._schema import (
     FORMAT_NAME,
     SCHEMA,
     SCHEMA_VERSION,
+    SPECTRUM_FORMAT_NAME,
+    SPECTRUM_SCHEMA,
     SWEEP_FORMAT_NAME,
     SWEEP_SCHEMA,
     schema_markdown,
+    spectrum_schema_markdown,
     sweep_schema_markdown,
 )
+from ._spectrum import load_spectrum, save_spectrum
 from ._sweep import SweepStore, open_sweep, read_sweep
 
 __all__ = [
@@ -52,6 +58,11 @@ __all__ = [
     "SWEEP_SCHEMA",
     "SWEEP_FORMAT_NAME",
     "sweep_schema_markdown",
+    "save_spectrum",
+    "load_spectrum",
+    "SPECTRUM_SCHEMA",
+    "SPECTRUM_FORMAT_NAME",
+    "spectrum_schema_markdown",
     "open_sweep",
     "read_sweep",
     "SweepStore",

@@ -190,6 +190,86 @@ SWEEP_SCHEMA = (
 )
 
 
+SPECTRUM_FORMAT_NAME = "dipolearray-spectrum"
+SPECTRUM_SCHEMA_VERSION = 1
+
+#: Layout of a spectrum file (spectral representation plus the response over frequency).
+SPECTRUM_SCHEMA = (
+    Entry("/", "group", "", "", "", "file root"),
+    Entry("/@format", "attr", "str", "", "", f"always {SPECTRUM_FORMAT_NAME!r}"),
+    Entry("/@schema_version", "attr", "int", "", "", "spectrum layout version"),
+    Entry("/@package_version", "attr", "str", "", "", "dipolearray version that wrote the file"),
+    Entry("/@created_utc", "attr", "str", "", "", "ISO 8601 time of writing"),
+    Entry("/@convention", "attr", "str", "", "", "permittivity sign convention and units (text)"),
+    Entry("/scene", "group", "", "", "", "the arrangement (geometry only)"),
+    Entry("/scene@boundary", "attr", "str", "", "", "'open' or 'periodic'"),
+    Entry(
+        "/scene@length_unit_m", "attr", "float64", "", "m", "SI value of the reduced length (NaN if unset)"
+    ),
+    Entry("/scene/positions", "dataset", "float64", "(N, 3)", "length", "body centres"),
+    Entry("/scene/semi_axes", "dataset", "float64", "(N, 3)", "length", "semi-axes of every body"),
+    Entry("/scene/rotations", "dataset", "float64", "(N, 3, 3)", "1", "body axes (columns) in lab frame"),
+    Entry("/spectrum", "group", "", "", "", "poles and weights: P(s) = sum_n W_n / (h_n - s)"),
+    Entry("/spectrum@method", "attr", "str", "", "", "'eigen' or 'lanczos'"),
+    Entry("/spectrum@volume", "attr", "float64", "", "length^3", "box or sample-sphere volume"),
+    Entry("/spectrum@sample_radius", "attr", "float64", "", "length", "sample radius (NaN for periodic)"),
+    Entry("/spectrum@volume_fraction", "attr", "float64", "", "1", "filler volume fraction"),
+    Entry("/spectrum@n_applies", "attr", "int", "", "", "operator applies spent"),
+    Entry("/spectrum@converged", "attr", "bool", "", "", "Lanczos met its tolerance (always true for eigen)"),
+    Entry("/spectrum@estimate", "attr", "float64", "", "1", "last relative change at the probe s values"),
+    Entry("/spectrum/poles", "dataset", "float64", "(M,)", "1", "pole positions s_n"),
+    Entry("/spectrum/weights", "dataset", "float64", "(M, 3, 3)", "length^3", "pole weights W_n"),
+    Entry("/spectrum/residues", "dataset", "float64", "(M, 3, 3)", "1", "Bergman residues 4 pi W_n / V"),
+    Entry("/response", "group", "", "", "", "the composite over frequency"),
+    Entry("/response/frequency_Hz", "dataset", "float64", "(F,)", "Hz", "frequency grid"),
+    Entry(
+        "/response/eps_tensor", "dataset", "complex128", "(F, 3, 3)", "1", "effective tensor eps' - j eps''"
+    ),
+    Entry("/response/eps_real", "dataset", "float64", "(F,)", "1", "isotropic eps'"),
+    Entry("/response/eps_loss", "dataset", "float64", "(F,)", "1", "isotropic eps''"),
+    Entry("/response/loss_tangent", "dataset", "float64", "(F,)", "1", "eps'' / eps'"),
+    Entry("/response/conductivity_S_per_m", "dataset", "float64", "(F,)", "S/m", "sigma' = omega eps0 eps''"),
+    Entry("/response/eps_host", "dataset", "complex128", "(F,)", "1", "host permittivity used"),
+    Entry("/response/eps_inclusion", "dataset", "complex128", "(F,)", "1", "filler permittivity used"),
+    Entry(
+        "/response/maxwell_garnett",
+        "dataset",
+        "complex128",
+        "(F,)",
+        "1",
+        "Maxwell Garnett for the same phases",
+        required=False,
+    ),  # fmt: skip
+    Entry("/config", "dataset", "str", "()", "", "config text", required=False),
+)
+
+
+def spectrum_schema_markdown() -> str:
+    """Render :data:`SPECTRUM_SCHEMA` as ``docs/spectrum_files.md``."""
+    lines = [
+        f"# HDF5 layout of a spectrum (format `{SPECTRUM_FORMAT_NAME}`, "
+        f"schema version {SPECTRUM_SCHEMA_VERSION})",
+        "",
+        "Generated from `dipolearray/store/_schema.py` (`tests/store/test_store.py` checks the page).",
+        "Written by `dipolearray spectrum` (`dipolearray.store.save_spectrum`): the spectral",
+        "representation of an arrangement, which depends on its geometry alone, and the",
+        "composite's permittivity over a frequency grid for the phases of the config.",
+        "Evaluate the stored spectrum for other phases with plain numpy:",
+        "",
+        "```python",
+        "import h5py, numpy as np",
+        "with h5py.File('runs/film-spectrum.h5') as f:",
+        "    h, W = f['spectrum/poles'][...], f['spectrum/weights'][...]",
+        "    V = f['spectrum'].attrs['volume']",
+        "s = 2.5 / (2.5 - 30.0)                      # s = eps_h / (eps_h - eps_i)",
+        "P = np.einsum('m,mab->ab', 1 / (h - s), W)  # total moment per unit field",
+        "eps_bulk = 2.5 * (np.eye(3) + 4 * np.pi * P / V)   # periodic box",
+        "```",
+        "",
+    ]
+    return "\n".join(lines + _table(SPECTRUM_SCHEMA) + [""])
+
+
 def _table(entries):
     lines = ["| path | kind | dtype | shape | unit | description |", "|---|---|---|---|---|---|"]
     for e in entries:

@@ -97,6 +97,16 @@ def test_docs_page_matches_schema():
     assert page.read_text() == schema_markdown()
 
 
+def test_sweep_and_spectrum_pages_match_their_declarations():
+    from pathlib import Path
+
+    from dipolearray.store import spectrum_schema_markdown, sweep_schema_markdown
+
+    docs = Path(__file__).resolve().parents[2] / "docs"
+    assert (docs / "sweep_files.md").read_text() == sweep_schema_markdown()
+    assert (docs / "spectrum_files.md").read_text() == spectrum_schema_markdown()
+
+
 def test_large_arrays_are_chunked_and_compressed(tmp_path):
     from dipolearray.arrange import random_sequential_addition
 

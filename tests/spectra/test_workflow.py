@@ -1,0 +1,115 @@
+"""Dielectric spectra from a config: models in the config, the spectrum verb, its file, figures and report."""
+
+import json
+import math
+import subprocess
+import sys
+from pathlib import Path
+
+import h5py
+import numpy as np
+import pytest
+from schema_walk import walk_spectrum
+
+from dipolearray.cli import EXIT_BAD_INPUT, EXIT_OK, main
+from dipolearray.config import dispersion_of, parse_config, run_config_spectrum
+from dipolearray.errors import ConfigError
+from dipolearray.spectra import loss_peak
+
+ROOT = Path(__file__).resolve().parents[2]
+
+CFG = """
+[run]
+name = "spec-test"
+[host]
+eps = 2.5
+[[population]]
+radius = "1 um"
+eps = 8.0
+model = "debye"
+delta_eps = 10.0
+tau = "1 ms"
+conductivity = "1e-8 S/m"
+[arrangement]
+kind = "lattice"
+lattice = "sc"
+region = "periodic"
+cells = 2
+volume_fraction = 0.1
+[frequency]
+min = "0.1 Hz"
+max = "100 kHz"
+points = 121
+"""
+
+
+def test_loss_peak_of_a_debye_relaxation():
+    # A Debye loss peak sits at w tau = 1 and is log10((2 + sqrt 3)/(2 - sqrt 3)) = 1.1438 decades wide.
+    from dipolearray.materials import debye
+
+    f = np.logspace(0, 8, 801)
+    pk = loss_peak(f, -debye(2.0, 5.0, 1e-4)(f).imag)
+    assert pk["frequency_hz"] == pytest.approx(1 / (2 * math.pi * 1e-4), rel=1e-3)
+    assert pk["width_decades"] == pytest.approx(math.log10((2 + math.sqrt(3)) / (2 - math.sqrt(3))), abs=2e-3)
+    assert pk["inside"] and pk["eps_loss"] == pytest.approx(2.5, rel=1e-4)
+
+
+def test_config_models_and_their_errors():
+    cfg = parse_config(CFG)
+    fill = dispersion_of(cfg.populations[0])
+    assert fill.kind == "debye" and fill.tau_s == pytest.approx(1e-3) and fill.sigma_dc == pytest.approx(1e-8)
+    with pytest.raises(ConfigError, match=r"population\[0\].tau: required"):
+        parse_config(CFG.replace('tau = "1 ms"\n', ""))
+    with pytest.raises(ConfigError, match="not a time"):
+        parse_config(CFG.replace('tau = "1 ms"', 'tau = "1 m"'))
+    with pytest.raises(ConfigError, match="frequency.max"):
+        parse_config(CFG.replace('max = "100 kHz"', 'max = "0.01 Hz"'))
+    with pytest.raises(ConfigError, match="did you mean 'population\\[0\\].conductivity'"):
+        parse_config(CFG.replace("conductivity =", "conductivty ="))
+
+
+def test_config_spectrum_matches_the_clausius_mossotti_composite(tmp_path):
+    # A cubic lattice at point-dipole level is the Maxwell Garnett / Clausius-Mossotti composite
+    # (Lorentz local field) at every frequency.
+    out = run_config_spectrum(parse_config(CFG), output=tmp_path / "s.h5")
+    iso = np.trace(out["eps_tensor"], axis1=1, axis2=2) / 3
+    np.testing.assert_allclose(iso, out["maxwell_garnett"], rtol=1e-9)
+    with h5py.File(out["path"]) as f:
+        from schema_walk import walk_spectrum as walk
+
+        assert walk(f) == []
+        np.testing.assert_allclose(f["response/eps_loss"][...], -iso.imag)
+        w = 2 * math.pi * f["response/frequency_Hz"][...]
+        np.testing.assert_allclose(f["response/conductivity_S_per_m"][...], w * 8.8541878128e-12 * -iso.imag)
+
+
+def test_spectrum_verb_report_and_figures(tmp_path):
+    (tmp_path / "s.toml").write_text(CFG)
+    run = lambda *a: subprocess.run(  # noqa: E731
+        [sys.executable, "-m", "dipolearray", *a], capture_output=True, text=True, cwd=tmp_path, timeout=300
+    )
+    p = run("spectrum", "s.toml", "--json", "--output", "s.h5")
+    assert p.returncode == EXIT_OK, p.stderr
+    info = json.loads(p.stdout)
+    assert info["converged"] and info["residue_sum_isotropic"] == pytest.approx(0.1, rel=1e-10)
+    assert info["loss_peak"]["frequency_hz"] == pytest.approx(
+        info["maxwell_garnett_loss_peak"]["frequency_hz"]
+    )
+    with h5py.File(tmp_path / "s.h5") as f:
+        assert walk_spectrum(f) == []
+    p = run("spectrum", "s.toml", "--output", "s.h5")
+    assert p.returncode == EXIT_BAD_INPUT and "exists" in p.stderr
+    assert main(["report", str(tmp_path / "s.h5"), "--quiet"]) == EXIT_OK
+    html = (tmp_path / "s.html").read_text()
+    for name in ("dielectric_spectrum", "cole_cole", "pole_density"):
+        assert f"s_figures/{name}.png" in html and f"s_figures/{name}.svg" in html
+    assert "licensed practice" in html and "Maxwell Garnett" in html
+
+
+def test_bundled_spectrum_example_runs_reduced(tmp_path, capsys):
+    cfg = ROOT / "configs" / "interfacial_loss.toml"
+    argv = ["spectrum", str(cfg), "--set", "arrangement.n_bodies=150", "--set", "frequency.points=60"]
+    assert main(argv + ["--output", str(tmp_path / "x.h5"), "--quiet"]) == EXIT_OK
+    with h5py.File(tmp_path / "x.h5") as f:
+        assert walk_spectrum(f) == [] and f["response/frequency_Hz"].shape == (60,)
+    capsys.readouterr()
