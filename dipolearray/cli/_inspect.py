@@ -1,8 +1,9 @@
-"""Summarize an HDF5 result or sweep file: what it holds and its main numbers.
+"""Summarize an HDF5 result, sweep or spectrum file: what it holds and its main numbers.
 
 For a result: the scene, the solver record, the stored observables, the effective
 permittivity, the field enhancement and any breakdown warning. For a sweep: the
-state points, realizations and the mean effective permittivity per point.
+state points, realizations and the mean effective permittivity per point. For a
+spectrum: the decomposition and the loss peak.
 
 example:
   dipolearray inspect runs/capacitor-film.h5
@@ -26,8 +27,11 @@ def run(args) -> int:
     """Run ``inspect``."""
     from ..report import file_kind
 
-    if file_kind(args.path) == "sweep":
+    kind = file_kind(args.path)
+    if kind == "sweep":
         return _sweep(args)
+    if kind == "spectrum":
+        return _spectrum(args)
     from ..report import run_summary
     from ..store import describe, load_result, read_config_text
     from ._solve import print_summary
@@ -74,4 +78,45 @@ def _sweep(args):
         print(f"  {json.dumps(r['point'])}: n {r['n']}, eps' {r['eps_eff_isotropic'][0]:.5g} +/- {se_txt}")
     if args.config:
         print(res.config_text if res.config_text is not None else "(no config stored)")
+    return 0
+
+
+def _spectrum(args):
+    import numpy as np
+
+    from ..spectra import loss_peak
+    from ..store import load_spectrum
+
+    sp, resp, text = load_spectrum(args.path)
+    info = {
+        "kind": "spectrum",
+        "boundary": sp.boundary,
+        "volume_fraction": sp.volume_fraction,
+        "method": sp.method,
+        "n_poles": len(sp.poles),
+        "converged": sp.converged,
+        "residue_sum_isotropic": float(np.trace(sp.residue_sum()) / 3),
+    }
+    if resp is not None:
+        f = resp["frequency_Hz"]
+        info["frequency_range_Hz"] = [float(f[0]), float(f[-1])]
+        info["loss_peak"] = loss_peak(f, resp["eps_loss"])
+    if args.config:
+        info["config"] = text
+    if args.json:
+        print(json.dumps(info, indent=2))
+        return 0
+    print(
+        f"{args.path}: spectrum ({info['method']}, {info['n_poles']} poles, {info['boundary']}, "
+        f"fraction {info['volume_fraction']:.4g}, residues sum {info['residue_sum_isotropic']:.6g})"
+    )
+    if resp is not None:
+        pk = info["loss_peak"]
+        print(
+            f"  response {f[0]:.3g} - {f[-1]:.3g} Hz ({len(f)} points); "
+            f"loss peak {pk['frequency_hz']:.4g} Hz, eps'' {pk['eps_loss']:.4g}, "
+            f"{pk['width_decades']:.3g} decades"
+        )
+    if args.config:
+        print(text if text is not None else "(no config stored)")
     return 0

@@ -113,3 +113,11 @@ def test_bundled_spectrum_example_runs_reduced(tmp_path, capsys):
     with h5py.File(tmp_path / "x.h5") as f:
         assert walk_spectrum(f) == [] and f["response/frequency_Hz"].shape == (60,)
     capsys.readouterr()
+
+
+def test_inspect_spectrum_file(tmp_path, capsys):
+    out = run_config_spectrum(parse_config(CFG), output=tmp_path / "i.h5")
+    assert main(["inspect", str(out["path"]), "--json"]) == EXIT_OK
+    info = json.loads(capsys.readouterr().out)
+    assert info["kind"] == "spectrum" and info["n_poles"] == len(out["spectrum"].poles)
+    assert info["loss_peak"]["frequency_hz"] == pytest.approx(out["peak"]["frequency_hz"])
