@@ -143,7 +143,9 @@ def walk_sweep(f):
 
 def walk_spectrum(f):
     """Walk docs/spectrum_files.md against a spectrum file."""
-    sizes = {"N": f["scene/positions"].shape[0], "M": f["spectrum/poles"].shape[0]}
+    sizes = {"N": f["scene/positions"].shape[0]}
+    if "spectrum" in f:
+        sizes["M"] = f["spectrum/poles"].shape[0]
     if "response" in f:
         sizes["F"] = f["response/frequency_Hz"].shape[0]
     return walk(f, "spectrum_files.md", {}, sizes)

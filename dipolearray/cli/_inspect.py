@@ -88,15 +88,18 @@ def _spectrum(args):
     from ..store import load_spectrum
 
     sp, resp, text = load_spectrum(args.path)
-    info = {
-        "kind": "spectrum",
-        "boundary": sp.boundary,
-        "volume_fraction": sp.volume_fraction,
-        "method": sp.method,
-        "n_poles": len(sp.poles),
-        "converged": sp.converged,
-        "residue_sum_isotropic": float(np.trace(sp.residue_sum()) / 3),
-    }
+    info = {"kind": "spectrum"}
+    if sp is not None:
+        info.update(
+            boundary=sp.boundary,
+            volume_fraction=sp.volume_fraction,
+            method=sp.method,
+            n_poles=len(sp.poles),
+            converged=sp.converged,
+            residue_sum_isotropic=float(np.trace(sp.residue_sum()) / 3),
+        )
+    else:
+        info.update(method="frequency by frequency", n_poles=0, volume_fraction=resp["volume_fraction"])
     if resp is not None:
         f = resp["frequency_Hz"]
         info["frequency_range_Hz"] = [float(f[0]), float(f[-1])]
@@ -106,10 +109,13 @@ def _spectrum(args):
     if args.json:
         print(json.dumps(info, indent=2))
         return 0
-    print(
-        f"{args.path}: spectrum ({info['method']}, {info['n_poles']} poles, {info['boundary']}, "
-        f"fraction {info['volume_fraction']:.4g}, residues sum {info['residue_sum_isotropic']:.6g})"
-    )
+    if sp is not None:
+        print(
+            f"{args.path}: spectrum ({info['method']}, {info['n_poles']} poles, {info['boundary']}, "
+            f"fraction {info['volume_fraction']:.4g}, residues sum {info['residue_sum_isotropic']:.6g})"
+        )
+    else:
+        print(f"{args.path}: response solved frequency by frequency, fraction {info['volume_fraction']:.4g}")
     if resp is not None:
         pk = info["loss_peak"]
         print(

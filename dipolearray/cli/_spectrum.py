@@ -47,21 +47,30 @@ def summary(out):
 
     sp = out["spectrum"]
     iso = np.trace(out["eps_tensor"], axis1=1, axis2=2) / 3
-    info = {
-        "n_bodies": out["scene"].n_bodies,
-        "boundary": sp.boundary,
-        "volume_fraction": sp.volume_fraction,
-        "method": sp.method,
-        "n_poles": len(sp.poles),
-        "n_applies": sp.n_applies,
-        "converged": sp.converged,
-        "residue_sum_isotropic": float(np.trace(sp.residue_sum()) / 3),
-        "frequency_range_Hz": [float(out["frequency_hz"][0]), float(out["frequency_hz"][-1])],
-        "eps_low": [float(iso[0].real), float(-iso[0].imag)],
-        "eps_high": [float(iso[-1].real), float(-iso[-1].imag)],
-        "loss_peak": out["peak"],
-        "output": str(out["path"]) if out["path"] else None,
-    }
+    scene = out["scene"]
+    info = {"n_bodies": scene.n_bodies, "boundary": scene.boundary}
+    if sp is not None:
+        info.update(
+            volume_fraction=sp.volume_fraction,
+            method=sp.method,
+            n_poles=len(sp.poles),
+            n_applies=sp.n_applies,
+            converged=sp.converged,
+            residue_sum_isotropic=float(np.trace(sp.residue_sum()) / 3),
+        )
+    else:
+        from ..report import volume_fraction
+
+        info.update(volume_fraction=volume_fraction(scene), method="frequency by frequency (warm starts)")
+    info.update(
+        {
+            "frequency_range_Hz": [float(out["frequency_hz"][0]), float(out["frequency_hz"][-1])],
+            "eps_low": [float(iso[0].real), float(-iso[0].imag)],
+            "eps_high": [float(iso[-1].real), float(-iso[-1].imag)],
+            "loss_peak": out["peak"],
+            "output": str(out["path"]) if out["path"] else None,
+        }
+    )
     if out["maxwell_garnett"] is not None:
         info["maxwell_garnett_loss_peak"] = _peak_of(out["frequency_hz"], out["maxwell_garnett"])
     return info
@@ -88,10 +97,13 @@ def run(args) -> int:
         return 0
     pk = info["loss_peak"]
     print(f"spectrum: {cfg.run['name']}, {info['n_bodies']} bodies, fraction {info['volume_fraction']:.4g}")
-    print(
-        f"  decomposition: {info['method']}, {info['n_poles']} poles, {info['n_applies']} applies, "
-        f"converged {info['converged']}, residues sum to {info['residue_sum_isotropic']:.6g}"
-    )
+    if "n_poles" in info:
+        print(
+            f"  decomposition: {info['method']}, {info['n_poles']} poles, {info['n_applies']} applies, "
+            f"converged {info['converged']}, residues sum to {info['residue_sum_isotropic']:.6g}"
+        )
+    else:
+        print(f"  several filler materials: solved {info['method']}")
     lo, hi = info["frequency_range_Hz"]
     print(f"  eps at {lo:.3g} Hz: {info['eps_low'][0]:.5g} - j {info['eps_low'][1]:.4g}")
     print(f"  eps at {hi:.3g} Hz: {info['eps_high'][0]:.5g} - j {info['eps_high'][1]:.4g}")

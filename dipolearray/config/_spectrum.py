@@ -47,12 +47,17 @@ def spectrum_output_path(cfg, override=None) -> Path:
 def run_config_spectrum(cfg, *, output=None, overwrite=False, save=True, progress=None):
     """Spectral representation of the config's arrangement and the composite over its frequency grid.
 
-    All populations must share one filler model (the spectrum has one variable ``s``).
+    With one filler model for every population the spectral representation is
+    computed once and evaluated at every frequency; with several filler materials
+    (the spectrum has one variable ``s``) every frequency is solved in turn, each
+    warm-started from the previous one (:func:`~dipolearray.spectra.frequency_sweep`),
+    and ``spectrum`` is ``None``.
 
     Returns
     -------
     dict
-        ``spectrum``, ``scene``, ``frequency_hz``, ``eps_tensor`` (F, 3, 3),
+        ``spectrum`` (``None`` on the frequency-by-frequency path), ``scene``,
+        ``frequency_hz``, ``eps_tensor`` (F, 3, 3),
         ``eps_host``, ``eps_inclusion``, ``maxwell_garnett`` (spheres, one population:
         the rule for the same phases; else ``None``), ``peak``
         (:func:`~dipolearray.spectra.loss_peak` of the isotropic part) and ``path``.
@@ -64,13 +69,7 @@ def run_config_spectrum(cfg, *, output=None, overwrite=False, save=True, progres
     keys = ("model", "eps", "eps_loss", "delta_eps", "tau", "alpha", "beta", "plasma_frequency", "damping",
             "conductivity")  # fmt: skip
     first = cfg.populations[0]
-    for i, p in enumerate(cfg.populations[1:], start=1):
-        if any(p[k] != first[k] for k in keys):
-            raise ConfigError(
-                f"population[{i}]: a spectrum needs one filler material; populations may differ in shape "
-                "and size, not in permittivity",
-                f"population[{i}]",
-            )
+    single = all(all(p[k] == first[k] for k in keys) for p in cfg.populations[1:])
     path = spectrum_output_path(cfg, output)
     if save and path.exists() and not overwrite:
         raise ConfigError(f"output: {path} exists; pass --overwrite to replace it", "output")
@@ -78,13 +77,25 @@ def run_config_spectrum(cfg, *, output=None, overwrite=False, save=True, progres
     if progress is not None:
         progress("spectral decomposition", 0, 1)
     fr = cfg.frequency
-    sp = spectral_representation(scene, method=fr["method"], tol=fr["tol"])
-    if progress is not None:
-        progress("spectral decomposition", 1, 1)
     f = frequency_grid(cfg)
     host, fill = dispersion_of(cfg.host), dispersion_of(first)
     eh, ei = np.asarray(host(f), dtype=complex), np.asarray(fill(f), dtype=complex)
-    eps = frequency_response(sp, host, fill, f)
+    if single:
+        sp = spectral_representation(scene, method=fr["method"], tol=fr["tol"])
+        if progress is not None:
+            progress("spectral decomposition", 1, 1)
+        eps = frequency_response(sp, host, fill, f)
+    else:
+        from ..spectra import frequency_sweep
+
+        sp = None
+        s = cfg.solver
+        method = "cocg" if s["method"] in ("auto", "fixed_point") else s["method"]
+        res = frequency_sweep(
+            scene, host, [dispersion_of(p) for p in cfg.populations], f, method=method,
+            rtol=s["rtol"], progress=progress,
+        )  # fmt: skip
+        eps = res["eps_tensor"]
     mg = None
     if len(cfg.populations) == 1 and first["shape"] == "sphere":
         mg = np.array(

@@ -444,27 +444,35 @@ def _spectrum_blocks(path, figures_dir, prefix):
     if text:
         b.append(("pre", text))
     b.append(("h2", "Spectral representation"))
-    rows = [
-        ("boundary", sp.boundary),
-        ("volume fraction", f"{sp.volume_fraction:.5g}"),
-        ("method", sp.method),
-        ("poles", len(sp.poles)),
-        ("operator applies", sp.n_applies),
-        ("converged", f"{sp.converged} (last relative change {sp.estimate:.2g})"),
-        (
-            "residue sum (isotropic; the volume fraction for a periodic box)",
-            f"{np.trace(sp.residue_sum()) / 3:.8g}",
-        ),
-        ("first moment of the residues (isotropic)", f"{np.trace(sp.first_moment()) / 3:.6g}"),
-    ]
-    b.append(("table", ("item", "value"), rows))
-    b.append(
-        (
-            "p",
-            "The poles and residues depend on the geometry alone (Bergman 1978; Milton 1981): the same "
-            "file gives the effective permittivity for any other host and filler permittivities.",
-        )
+    if sp is None:
+        b.append(("p", "Several filler materials: no single spectral representation exists, every frequency "
+                  "was solved in turn (warm-started from its neighbour)."))  # fmt: skip
+    rows = (
+        []
+        if sp is None
+        else [
+            ("boundary", sp.boundary),
+            ("volume fraction", f"{sp.volume_fraction:.5g}"),
+            ("method", sp.method),
+            ("poles", len(sp.poles)),
+            ("operator applies", sp.n_applies),
+            ("converged", f"{sp.converged} (last relative change {sp.estimate:.2g})"),
+            (
+                "residue sum (isotropic; the volume fraction for a periodic box)",
+                f"{np.trace(sp.residue_sum()) / 3:.8g}",
+            ),
+            ("first moment of the residues (isotropic)", f"{np.trace(sp.first_moment()) / 3:.6g}"),
+        ]
     )
+    if rows:
+        b.append(("table", ("item", "value"), rows))
+        b.append(
+            (
+                "p",
+                "The poles and residues depend on the geometry alone (Bergman 1978; Milton 1981): the same "
+                "file gives the effective permittivity for any other host and filler permittivities.",
+            )
+        )
     if resp is not None:
         f = resp["frequency_Hz"]
         b.append(("h2", "Composite over frequency"))

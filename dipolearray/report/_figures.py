@@ -166,6 +166,8 @@ def spectrum_figures(spectrum, response, folder, *, prefix=""):
             "png": png,
             "svg": svg,
         })  # fmt: skip
+    if spectrum is None:
+        return out
     png, svg = save_figure(plot_pole_density(spectrum), folder / f"{prefix}pole_density")
     out.append({
         "name": "pole_density",

@@ -14,11 +14,22 @@ frequency_response
     Effective tensor over frequency for two permittivity models.
 bergman_s
     ``s = eps_h / (eps_h - eps_i)``.
+frequency_sweep
+    The general path (several filler materials): one solve per frequency, each
+    warm-started from the previous frequency's moments.
 loss_peak
     Frequency, height and width (decades) of the loss peak of a sampled spectrum.
 """
 
 from ._analysis import loss_peak
 from ._spectral import Spectrum, bergman_s, frequency_response, spectral_representation
+from ._sweep import frequency_sweep
 
-__all__ = ["spectral_representation", "Spectrum", "frequency_response", "bergman_s", "loss_peak"]
+__all__ = [
+    "spectral_representation",
+    "Spectrum",
+    "frequency_response",
+    "bergman_s",
+    "loss_peak",
+    "frequency_sweep",
+]

@@ -209,18 +209,66 @@ SPECTRUM_SCHEMA = (
     Entry("/scene/positions", "dataset", "float64", "(N, 3)", "length", "body centres"),
     Entry("/scene/semi_axes", "dataset", "float64", "(N, 3)", "length", "semi-axes of every body"),
     Entry("/scene/rotations", "dataset", "float64", "(N, 3, 3)", "1", "body axes (columns) in lab frame"),
-    Entry("/spectrum", "group", "", "", "", "poles and weights: P(s) = sum_n W_n / (h_n - s)"),
-    Entry("/spectrum@method", "attr", "str", "", "", "'eigen' or 'lanczos'"),
-    Entry("/spectrum@volume", "attr", "float64", "", "length^3", "box or sample-sphere volume"),
-    Entry("/spectrum@sample_radius", "attr", "float64", "", "length", "sample radius (NaN for periodic)"),
-    Entry("/spectrum@volume_fraction", "attr", "float64", "", "1", "filler volume fraction"),
-    Entry("/spectrum@n_applies", "attr", "int", "", "", "operator applies spent"),
-    Entry("/spectrum@converged", "attr", "bool", "", "", "Lanczos met its tolerance (always true for eigen)"),
-    Entry("/spectrum@estimate", "attr", "float64", "", "1", "last relative change at the probe s values"),
-    Entry("/spectrum/poles", "dataset", "float64", "(M,)", "1", "pole positions s_n"),
-    Entry("/spectrum/weights", "dataset", "float64", "(M, 3, 3)", "length^3", "pole weights W_n"),
-    Entry("/spectrum/residues", "dataset", "float64", "(M, 3, 3)", "1", "Bergman residues 4 pi W_n / V"),
+    Entry(
+        "/spectrum",
+        "group",
+        "",
+        "",
+        "",
+        "poles and weights: P(s) = sum_n W_n / (h_n - s); absent when several filler materials "
+        "were solved frequency by frequency",
+        required=False,
+    ),
+    Entry("/spectrum@method", "attr", "str", "", "", "'eigen' or 'lanczos'", required=False),
+    Entry(
+        "/spectrum@volume", "attr", "float64", "", "length^3", "box or sample-sphere volume", required=False
+    ),
+    Entry(
+        "/spectrum@sample_radius",
+        "attr",
+        "float64",
+        "",
+        "length",
+        "sample radius (NaN for periodic)",
+        required=False,
+    ),
+    Entry("/spectrum@volume_fraction", "attr", "float64", "", "1", "filler volume fraction", required=False),
+    Entry("/spectrum@n_applies", "attr", "int", "", "", "operator applies spent", required=False),
+    Entry(
+        "/spectrum@converged",
+        "attr",
+        "bool",
+        "",
+        "",
+        "Lanczos met its tolerance (always true for eigen)",
+        required=False,
+    ),
+    Entry(
+        "/spectrum@estimate",
+        "attr",
+        "float64",
+        "",
+        "1",
+        "last relative change at the probe s values",
+        required=False,
+    ),
+    Entry("/spectrum/poles", "dataset", "float64", "(M,)", "1", "pole positions s_n", required=False),
+    Entry(
+        "/spectrum/weights", "dataset", "float64", "(M, 3, 3)", "length^3", "pole weights W_n", required=False
+    ),
+    Entry(
+        "/spectrum/residues",
+        "dataset",
+        "float64",
+        "(M, 3, 3)",
+        "1",
+        "Bergman residues 4 pi W_n / V",
+        required=False,
+    ),
     Entry("/response", "group", "", "", "", "the composite over frequency"),
+    Entry(
+        "/response@volume_fraction", "attr", "float64", "", "1", "filler volume fraction of the sample or box"
+    ),
     Entry("/response/frequency_Hz", "dataset", "float64", "(F,)", "Hz", "frequency grid"),
     Entry(
         "/response/eps_tensor", "dataset", "complex128", "(F, 3, 3)", "1", "effective tensor eps' - j eps''"
@@ -230,7 +278,14 @@ SPECTRUM_SCHEMA = (
     Entry("/response/loss_tangent", "dataset", "float64", "(F,)", "1", "eps'' / eps'"),
     Entry("/response/conductivity_S_per_m", "dataset", "float64", "(F,)", "S/m", "sigma' = omega eps0 eps''"),
     Entry("/response/eps_host", "dataset", "complex128", "(F,)", "1", "host permittivity used"),
-    Entry("/response/eps_inclusion", "dataset", "complex128", "(F,)", "1", "filler permittivity used"),
+    Entry(
+        "/response/eps_inclusion",
+        "dataset",
+        "complex128",
+        "(F,)",
+        "1",
+        "filler permittivity used (first population)",
+    ),
     Entry(
         "/response/maxwell_garnett",
         "dataset",

@@ -27,7 +27,8 @@ def save_spectrum(path, scene, spectrum, *, frequency_hz=None, eps_tensor=None, 
     path : str or Path
     scene : Scene
         The arrangement (its geometry is stored).
-    spectrum : Spectrum
+    spectrum : Spectrum or None
+        ``None`` for a frequency-by-frequency sweep (several filler materials).
     frequency_hz : (F,) array_like, optional
     eps_tensor : (F, 3, 3) array_like of complex, optional
     eps_host, eps_inclusion, maxwell_garnett : (F,) array_like of complex, optional
@@ -59,24 +60,14 @@ def save_spectrum(path, scene, spectrum, *, frequency_hz=None, eps_tensor=None, 
             g.create_dataset("positions", data=np.asarray(scene.positions, dtype=float), **big)
             g.create_dataset("semi_axes", data=np.asarray(scene.semi_axes, dtype=float), **big)
             g.create_dataset("rotations", data=np.asarray(scene.rotations, dtype=float), **big)
-            s = f.create_group("spectrum")
-            s.attrs["method"] = spectrum.method
-            s.attrs["volume"] = float(spectrum.volume)
-            s.attrs["sample_radius"] = (
-                math.nan if spectrum.sample_radius is None else float(spectrum.sample_radius)
-            )
-            s.attrs["volume_fraction"] = float(spectrum.volume_fraction)
-            s.attrs["n_applies"] = int(spectrum.n_applies)
-            s.attrs["converged"] = bool(spectrum.converged)
-            s.attrs["estimate"] = float(spectrum.estimate)
-            s.create_dataset("poles", data=np.asarray(spectrum.poles, dtype=float))
-            s.create_dataset("weights", data=np.asarray(spectrum.weights, dtype=float))
-            s.create_dataset("residues", data=np.asarray(spectrum.residues, dtype=float))
+            if spectrum is not None:
+                _write_spectrum(f, spectrum)
             if frequency_hz is not None:
                 fr = np.asarray(frequency_hz, dtype=float)
                 eps = np.asarray(eps_tensor, dtype=complex)
                 iso = np.trace(eps, axis1=1, axis2=2) / 3
                 r = f.create_group("response")
+                r.attrs["volume_fraction"] = float(_fraction(scene))
                 r.create_dataset("frequency_Hz", data=fr)
                 r.create_dataset("eps_tensor", data=eps)
                 r.create_dataset("eps_real", data=iso.real)
@@ -97,8 +88,30 @@ def save_spectrum(path, scene, spectrum, *, frequency_hz=None, eps_tensor=None, 
     return path
 
 
+def _fraction(scene):
+    if scene.boundary == "periodic":
+        return scene.volumes.sum() / np.prod(scene.box)
+    if scene.sample_radius:
+        return scene.volumes.sum() / (4 / 3 * math.pi * scene.sample_radius**3)
+    return math.nan
+
+
+def _write_spectrum(f, spectrum):
+    s = f.create_group("spectrum")
+    s.attrs["method"] = spectrum.method
+    s.attrs["volume"] = float(spectrum.volume)
+    s.attrs["sample_radius"] = math.nan if spectrum.sample_radius is None else float(spectrum.sample_radius)
+    s.attrs["volume_fraction"] = float(spectrum.volume_fraction)
+    s.attrs["n_applies"] = int(spectrum.n_applies)
+    s.attrs["converged"] = bool(spectrum.converged)
+    s.attrs["estimate"] = float(spectrum.estimate)
+    s.create_dataset("poles", data=np.asarray(spectrum.poles, dtype=float))
+    s.create_dataset("weights", data=np.asarray(spectrum.weights, dtype=float))
+    s.create_dataset("residues", data=np.asarray(spectrum.residues, dtype=float))
+
+
 def load_spectrum(path):
-    """Read a spectrum file: ``(Spectrum, response dict or None, config text or None)``."""
+    """Read a spectrum file: ``(Spectrum or None, response dict or None, config text or None)``."""
     from ..spectra import Spectrum
 
     p = Path(path)
@@ -115,25 +128,32 @@ def load_spectrum(path):
             raise SchemaError(
                 f"{p}: spectrum schema {int(f.attrs['schema_version'])} is newer than this reader"
             )
-        s = f["spectrum"]
-        R = float(s.attrs["sample_radius"])
-        sp = Spectrum(
-            poles=s["poles"][...],
-            weights=s["weights"][...],
-            boundary=str(f["scene"].attrs["boundary"]),
-            volume=float(s.attrs["volume"]),
-            sample_radius=None if math.isnan(R) else R,
-            volume_fraction=float(s.attrs["volume_fraction"]),
-            method=str(s.attrs["method"]),
-            n_applies=int(s.attrs["n_applies"]),
-            converged=bool(s.attrs["converged"]),
-            estimate=float(s.attrs["estimate"]),
-        )
+        sp = None
+        if "spectrum" in f:
+            sp = _read_spectrum(f, Spectrum)
         response = None
         if "response" in f:
             response = {k: f["response"][k][...] for k in f["response"]}
+            response["volume_fraction"] = float(f["response"].attrs["volume_fraction"])
         text = None
         if "config" in f:
             v = f["config"][()]
             text = v.decode() if isinstance(v, bytes) else str(v)
     return sp, response, text
+
+
+def _read_spectrum(f, Spectrum):
+    s = f["spectrum"]
+    R = float(s.attrs["sample_radius"])
+    return Spectrum(
+        poles=s["poles"][...],
+        weights=s["weights"][...],
+        boundary=str(f["scene"].attrs["boundary"]),
+        volume=float(s.attrs["volume"]),
+        sample_radius=None if math.isnan(R) else R,
+        volume_fraction=float(s.attrs["volume_fraction"]),
+        method=str(s.attrs["method"]),
+        n_applies=int(s.attrs["n_applies"]),
+        converged=bool(s.attrs["converged"]),
+        estimate=float(s.attrs["estimate"]),
+    )

@@ -136,3 +136,16 @@ def test_pole_density_integrates_to_the_fraction_and_bad_input():
         spectral_representation(_scene("periodic"), method="qr")
     with pytest.raises(da.InputError, match="eps_inclusion"):
         sp.effective_permittivity(2.0, 2.0)
+
+
+@pytest.mark.parametrize("phi", [0.1, 0.25])
+def test_first_moment_of_a_random_periodic_arrangement(phi):
+    # Bergman (1978): for an isotropic two-phase composite sum_n B_n s_n = phi (1 - phi) / 3.
+    # At point-dipole level the isotropic part holds exactly (the dipole tensor is traceless,
+    # the conducting boundary supplies the -phi^2/3).
+    arr = random_sequential_addition(150, phi, region="periodic", rng=11)
+    sc = da.Scene.from_arrangement(
+        arr, da.Population(da.Sphere(1.0), da.Material(1.0)), host=da.Material(1.0)
+    )
+    sp = spectral_representation(sc, method="eigen")
+    assert np.trace(sp.first_moment()) / 3 == pytest.approx(phi * (1 - phi) / 3, rel=1e-9)

@@ -121,3 +121,51 @@ def test_inspect_spectrum_file(tmp_path, capsys):
     info = json.loads(capsys.readouterr().out)
     assert info["kind"] == "spectrum" and info["n_poles"] == len(out["spectrum"].poles)
     assert info["loss_peak"]["frequency_hz"] == pytest.approx(out["peak"]["frequency_hz"])
+
+
+def test_several_filler_materials_are_solved_frequency_by_frequency(tmp_path):
+    import dipolearray as da
+    from dipolearray.arrange import random_sequential_addition
+    from dipolearray.materials import constant, debye
+    from dipolearray.spectra import frequency_sweep
+
+    arr = random_sequential_addition(120, 0.15, region="sphere", rng=5)
+    arr = arr.replace(labels=np.arange(120) % 2)
+    pops = (da.Population(da.Sphere(1.0), da.Material(10.0)), da.Population(da.Sphere(1.0), da.Material(5.0)))
+    sc = da.Scene.from_arrangement(arr, pops, host=da.Material(2.5))
+    f = np.logspace(1, 7, 25)
+    host, fills = constant(2.5, 0.005), [debye(8.0, 40.0, 1e-5, sigma_dc=1e-6), constant(5.0, 0.1)]
+    warm = frequency_sweep(sc, host, fills, f, rtol=1e-12)
+    cold = frequency_sweep(sc, host, fills, f, rtol=1e-12, warm=False)
+    assert warm["converged"].all() and warm["iterations"].sum() <= cold["iterations"].sum()
+    np.testing.assert_allclose(warm["eps_tensor"], cold["eps_tensor"], rtol=1e-9, atol=1e-12)
+    # Independent: a direct (LU) solve at one frequency.
+    from dipolearray.observables import effective_permittivity
+
+    i = 12
+    pops_i = tuple(
+        da.Population(p.shape, da.Material(complex(m(f[i])))) for p, m in zip(pops, fills, strict=True)
+    )
+    ref = effective_permittivity(
+        da.solve(sc.replace(host=da.Material(complex(host(f[i]))), populations=pops_i), "direct")
+    ).tensor
+    np.testing.assert_allclose(warm["eps_tensor"][i], ref, rtol=1e-9)
+    with pytest.raises(da.InputError, match="fillers"):
+        frequency_sweep(sc, host, fills[:1] * 3, f)
+
+
+def test_config_with_two_filler_materials_writes_a_response_without_spectrum(tmp_path, capsys):
+    text = CFG.replace('[arrangement]\nkind = "lattice"\nlattice = "sc"\nregion = "periodic"\ncells = 2\n',
+                       '[arrangement]\nkind = "random"\nn_bodies = 60\nregion = "sphere"\n')  # fmt: skip
+    text += '\n[[population]]\nradius = "1 um"\neps = 4.0\nmodel = "constant"\n'
+    (tmp_path / "two.toml").write_text(text)
+    assert (
+        main(["spectrum", str(tmp_path / "two.toml"), "--output", str(tmp_path / "two.h5"), "--quiet"]) == 0
+    )
+    with h5py.File(tmp_path / "two.h5") as f:
+        assert "spectrum" not in f and walk_spectrum(f) == []
+    assert main(["inspect", str(tmp_path / "two.h5")]) == EXIT_OK
+    assert "frequency by frequency" in capsys.readouterr().out
+    assert main(["report", str(tmp_path / "two.h5"), "--quiet"]) == EXIT_OK
+    html = (tmp_path / "two.html").read_text()
+    assert "two_figures/dielectric_spectrum.png" in html and "pole_density" not in html
