@@ -21,6 +21,9 @@ DirectOperator
 EwaldOperator, ewald_parameters
     Periodic orthorhombic box, Ewald summation with conducting (tin-foil) boundary;
     parameters chosen for a requested accuracy.
+FMMOperator, fmm_available
+    Open scenes by the Laplace fast multipole method (fmm3dpy), O(N) per apply at a
+    requested accuracy.
 make_operator
     Build an operator for a scene by backend name (``"auto"`` records its choice).
 register_backend, available_backends
@@ -37,6 +40,7 @@ from ._base import (
 )
 from ._direct import DirectOperator
 from ._ewald import EwaldOperator, ewald_parameters
+from ._fmm import FMMOperator, fmm_available
 from ._threads import get_num_threads, set_num_threads
 
 __all__ = [
@@ -44,6 +48,8 @@ __all__ = [
     "DirectOperator",
     "EwaldOperator",
     "ewald_parameters",
+    "FMMOperator",
+    "fmm_available",
     "make_operator",
     "register_backend",
     "available_backends",

@@ -53,8 +53,22 @@ def make_operator(scene, backend: str = "auto", **options) -> InteractionOperato
             op = _BACKENDS["ewald"](scene, **options)
             op.reason = "auto: periodic boundary; " + op.describe()
             return op
-        op = _BACKENDS["direct"](scene, **options)
-        op.reason = "auto: open boundary; direct O(N^2) kernel is the only open backend"
+        from ._fmm import fmm_available, fmm_crossover
+
+        acc = float(options.get("accuracy", 1e-10))
+        n_cross = fmm_crossover(acc)
+        if scene.n_bodies >= n_cross and fmm_available():
+            op = _BACKENDS["fmm"](scene, accuracy=acc)
+            op.reason = (
+                f"auto: open boundary, N = {scene.n_bodies} >= {n_cross} (measured crossover at "
+                f"accuracy {acc:g}); " + op.describe()
+            )
+            return op
+        op = _BACKENDS["direct"](scene)
+        op.reason = (
+            f"auto: open boundary, N = {scene.n_bodies} < {n_cross} (fast-multipole crossover at accuracy "
+            f"{acc:g}): direct O(N^2) kernel, exact"
+        )
         return op
     if backend == "direct" and scene.boundary != "open":
         raise InputError("backend: 'direct' sums an open boundary; periodic scenes use 'ewald'", "backend")

@@ -1,0 +1,86 @@
+"""Open-boundary scaling: where the fast-multipole backend beats the direct kernel, and solves against N.
+
+Run:  env -u OPENBLAS_CORETYPE -u OPENBLAS_L2_SIZE python bench/bench_scaling.py [--quick] [--solve N ...]
+
+1. Crossover: one apply (three right-hand sides) of the direct numba kernel against
+   fmm3dpy at requested accuracies 1e-3, 1e-6, 1e-9 for random spheres at volume
+   fraction 0.2, N from 5e3 to 8e4; prints the times, their ratio and the measured
+   relative error, and the crossover N per accuracy (what ``operators._fmm.CROSSOVER``
+   records).
+2. Solves: random spheres at 0.2, contrast 10, tolerance 1e-6, three field
+   directions, COCG with the automatic backend, for the N given with --solve
+   (default 1e4 and 1e5): time, iterations, backend and peak memory (RSS).
+"""
+
+from __future__ import annotations
+
+import argparse
+import resource
+import time
+
+import numpy as np
+
+import dipolearray as da
+from dipolearray.arrange import random_sequential_addition
+from dipolearray.operators import make_operator
+
+
+def scene(n, phi=0.2, contrast=10.0, seed=0):
+    arr = random_sequential_addition(n, phi, region="sphere", rng=seed)
+    return da.Scene.from_arrangement(
+        arr, da.Population(da.Sphere(1.0), da.Material(contrast)), host=da.Material(1.0)
+    )
+
+
+def crossover(sizes, accuracies):
+    warm = scene(500)
+    x = np.ones((500, 3, 3))
+    make_operator(warm, "direct").apply(x)
+    make_operator(warm, "fmm", accuracy=1e-6).apply(x)
+    first = {}
+    print("N        direct_s   " + "   ".join(f"fmm@{a:g}_s (ratio, err)" for a in accuracies))
+    for n in sizes:
+        sc = scene(n)
+        x = np.random.default_rng(0).standard_normal((n, 3, 3))
+        t = time.perf_counter()
+        ref = make_operator(sc, "direct").apply(x)
+        td = time.perf_counter() - t
+        cells = []
+        for a in accuracies:
+            op = make_operator(sc, "fmm", accuracy=a)
+            t = time.perf_counter()
+            y = op.apply(x)
+            tf = time.perf_counter() - t
+            err = np.linalg.norm(y - ref) / np.linalg.norm(ref)
+            cells.append(f"{tf:8.3f} ({td / tf:5.2f}x, {err:.1e})")
+            if tf < td and a not in first:
+                first[a] = n
+        print(f"{n:<8d} {td:9.3f}   " + "   ".join(cells))
+    for a in accuracies:
+        print(f"crossover at accuracy {a:g}: N = {first.get(a, '> ' + str(sizes[-1]))}")
+
+
+def solves(sizes):
+    for n in sizes:
+        sc = scene(n, seed=1)
+        t = time.perf_counter()
+        sol = da.solve(sc, "cocg", rtol=1e-6)
+        dt = time.perf_counter() - t
+        rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1e6
+        print(
+            f"solve N = {n}: {dt:.1f} s, {sol.iterations} iterations, backend {sol.backend}, "
+            f"converged {sol.converged}, peak RSS so far {rss:.2f} GB"
+        )
+
+
+if __name__ == "__main__":
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--quick", action="store_true", help="small sizes only (smoke run)")
+    ap.add_argument("--solve", type=int, nargs="*", default=None, help="solve these N (default 1e4 1e5)")
+    args = ap.parse_args()
+    if args.quick:
+        crossover([2000, 5000], [1e-3, 1e-6])
+        solves([3000])
+    else:
+        crossover([5000, 10000, 20000, 40000, 80000], [1e-3, 1e-6, 1e-9])
+        solves(args.solve if args.solve is not None else [10000, 100000])
