@@ -144,7 +144,7 @@ def field_slice(sol, *, normal="y", offset=0.0, resolution=161, direction=0, ext
     dict
         ``u`` and ``v`` (``(R,)`` grid coordinates), ``magnitude`` (``(R, R)``,
         ``|E| / |E0|`` indexed ``[v, u]``), ``inside`` (``(R, R)`` bool, grid point
-        inside a body), ``axes`` (the two in-plane axis names), ``offset``.
+        inside a body), ``axes`` (the two in-plane axis names), ``normal``, ``offset``.
     """
     from .._validate import as_int
 
@@ -181,6 +181,7 @@ def field_slice(sol, *, normal="y", offset=0.0, resolution=161, direction=0, ext
         "magnitude": mag.reshape(n, n),
         "inside": inside.reshape(n, n),
         "axes": tuple(names),
+        "normal": normal,
         "offset": float(offset),
     }
 

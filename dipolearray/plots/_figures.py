@@ -72,7 +72,8 @@ def plot_field_slice(sol, ax=None, *, normal="y", offset=0.0, direction=0, resol
     direction : int
     resolution : int
     data : dict, optional
-        A precomputed :func:`~dipolearray.observables.field_slice` result.
+        A precomputed :func:`~dipolearray.observables.field_slice` result (its plane
+        and offset then replace ``normal`` and ``offset``).
 
     Returns
     -------
@@ -84,6 +85,7 @@ def plot_field_slice(sol, ax=None, *, normal="y", offset=0.0, direction=0, resol
 
     if data is None:
         data = field_slice(sol, normal=normal, offset=offset, direction=direction, resolution=resolution)
+    normal = data["normal"]
     ax = new_axes(ax)
     u, v, mag = data["u"], data["v"], data["magnitude"]
     vmax = float(np.percentile(mag, 99.5))

@@ -61,3 +61,13 @@ def test_each_figure_is_written_with_its_size(sol, tmp_path, which):
 def test_histogram_kind_is_checked(sol):
     with pytest.raises(da.InputError, match="kind"):
         plot_enhancement_histogram(field_enhancement(sol), kind="peak")
+
+
+def test_slice_outlines_follow_the_plane_of_precomputed_data(sol):
+    from dipolearray.observables import field_slice, slice_outlines
+
+    data = field_slice(sol, normal="x", offset=0.3, resolution=24)
+    ax = plot_field_slice(sol, data=data)
+    # Two patches (white and black outline) per body cut by the plane x = 0.3.
+    assert len(ax.patches) == 2 * len(slice_outlines(sol.scene, "x", 0.3))
+    assert "slice x = 0.3" in ax.get_title()
