@@ -21,6 +21,10 @@ DirectOperator
 EwaldOperator, ewald_parameters
     Periodic orthorhombic box, Ewald summation with conducting (tin-foil) boundary;
     parameters chosen for a requested accuracy.
+PMEOperator
+    Periodic box by smooth particle-mesh Ewald (B-spline mesh, scipy.fft).
+PMEOperator
+    Periodic box by smooth particle-mesh Ewald (B-spline mesh, scipy.fft).
 FMMOperator, fmm_available
     Open scenes by the Laplace fast multipole method (fmm3dpy), O(N) per apply at a
     requested accuracy.
@@ -41,6 +45,7 @@ from ._base import (
 from ._direct import DirectOperator
 from ._ewald import EwaldOperator, ewald_parameters
 from ._fmm import FMMOperator, fmm_available
+from ._pme import PMEOperator
 from ._threads import get_num_threads, set_num_threads
 
 __all__ = [
@@ -49,6 +54,7 @@ __all__ = [
     "EwaldOperator",
     "ewald_parameters",
     "FMMOperator",
+    "PMEOperator",
     "fmm_available",
     "make_operator",
     "register_backend",

@@ -80,17 +80,7 @@ class EwaldOperator(InteractionOperator):
         self._pos = np.ascontiguousarray(pos)
         n = self.n_bodies
         self.alpha, self.r_cut, self.k_cut = ewald_parameters(L, n, acc)
-        # Cell list for the real-space sum.
-        ncell = np.maximum(1, np.floor(L / self.r_cut)).astype(np.int64)
-        cell = np.minimum((pos / (L / ncell)).astype(np.int64), ncell - 1)
-        flat = (cell[:, 0] * ncell[1] + cell[:, 1]) * ncell[2] + cell[:, 2]
-        order = np.argsort(flat, kind="stable")
-        self._items = np.ascontiguousarray(order, dtype=np.int64)
-        self._start = np.ascontiguousarray(
-            np.searchsorted(flat[order], np.arange(int(np.prod(ncell)) + 1)), dtype=np.int64
-        )
-        self._cell_of = np.ascontiguousarray(cell)
-        self._ncell = ncell
+        self._setup_real_space(scene)
         # Reciprocal vectors in half of k-space.
         H = np.floor(self.k_cut * L / (2.0 * math.pi)).astype(int)
         grids = np.meshgrid(*[np.arange(-h, h + 1) for h in H], indexing="ij")
@@ -118,6 +108,21 @@ class EwaldOperator(InteractionOperator):
             self._phases.append(np.ascontiguousarray(ph))
             self._phases_t.append(np.ascontiguousarray(ph.T))
         self.n_kvectors = int(len(k2))
+
+    def _setup_real_space(self, scene):
+        """Cell list, screening-function table and self term for ``self.alpha`` and ``self.r_cut``."""
+        L, pos, n, acc = self.box, self._pos, self.n_bodies, self.accuracy
+        # Cell list for the real-space sum.
+        ncell = np.maximum(1, np.floor(L / self.r_cut)).astype(np.int64)
+        cell = np.minimum((pos / (L / ncell)).astype(np.int64), ncell - 1)
+        flat = (cell[:, 0] * ncell[1] + cell[:, 1]) * ncell[2] + cell[:, 2]
+        order = np.argsort(flat, kind="stable")
+        self._items = np.ascontiguousarray(order, dtype=np.int64)
+        self._start = np.ascontiguousarray(
+            np.searchsorted(flat[order], np.arange(int(np.prod(ncell)) + 1)), dtype=np.int64
+        )
+        self._cell_of = np.ascontiguousarray(cell)
+        self._ncell = ncell
         # Screening functions tabulated for cubic Hermite interpolation: the error
         # ~ h^4 max|g| / 384 with g ~ 10 alpha^4 stays below 1e-3 accuracy for
         # h = (3.8e-4 * accuracy)^(1/4) / alpha; at most 200001 nodes.

@@ -18,6 +18,7 @@ from ._ewald import (
     structure_factors,
 )
 from ._jit import get_num_threads, set_num_threads
+from ._pme import pme_gather, pme_spread
 
 __all__ = [
     "dipole_field",
@@ -25,6 +26,8 @@ __all__ = [
     "dipole_pair_forces",
     "ewald_field",
     "ewald_field_at",
+    "pme_spread",
+    "pme_gather",
     "screening_table",
     "set_num_threads",
     "get_num_threads",
