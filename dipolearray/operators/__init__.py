@@ -23,8 +23,10 @@ EwaldOperator, ewald_parameters
     parameters chosen for a requested accuracy.
 PMEOperator
     Periodic box by smooth particle-mesh Ewald (B-spline mesh, scipy.fft).
-PMEOperator
-    Periodic box by smooth particle-mesh Ewald (B-spline mesh, scipy.fft).
+MultipoleOperator, BodyResponse, sphere_response, pair_model, pair_dipoles
+    Spheres beyond the point dipole: induced multipoles to order L on near pairs
+    (rotate-translate-rotate), point dipoles for the rest; the sphere response of each
+    degree; the two-sphere model that picks orders and estimates the dipole error.
 FMMOperator, fmm_available
     Open scenes by the Laplace fast multipole method (fmm3dpy), O(N) per apply at a
     requested accuracy.
@@ -45,6 +47,7 @@ from ._base import (
 from ._direct import DirectOperator
 from ._ewald import EwaldOperator, ewald_parameters
 from ._fmm import FMMOperator, fmm_available
+from ._multipole import BodyResponse, MultipoleOperator, pair_dipoles, pair_model, sphere_response
 from ._pme import PMEOperator
 from ._threads import get_num_threads, set_num_threads
 
@@ -55,6 +58,11 @@ __all__ = [
     "ewald_parameters",
     "FMMOperator",
     "PMEOperator",
+    "MultipoleOperator",
+    "BodyResponse",
+    "sphere_response",
+    "pair_model",
+    "pair_dipoles",
     "fmm_available",
     "make_operator",
     "register_backend",

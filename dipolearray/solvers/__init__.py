@@ -43,6 +43,23 @@ Solution
     Frozen result record (moments, convergence, residual history, timing).
 estimate_spectral_radius
     Power-iteration estimate of the spectral radius of ``alpha T``.
+near_contact_estimate, closest_pair, NearContactWarning
+    Point-dipole model error from every sphere's nearest neighbour (a two-sphere
+    multipole solve at the same gap); a dipole-level solve records it in
+    ``Solution.extra["near_contact"]`` and warns when the closest pair is off by 5 % or
+    more.
+multipole_model_error
+    A posteriori model error of a multipole solve (re-solve with the closest pairs at
+    higher order); recorded in ``Solution.extra["model_error"]``.
+
+Multipole unknowns
+------------------
+With ``backend="multipole"`` (or a :class:`dipolearray.operators.MultipoleOperator`)
+each body carries ``m = L (L + 2)`` unknowns (its induced-potential coefficients), the
+response ``alpha`` is the operator's block-diagonal response, the applied field drives
+the dipole degree only, and every method above runs unchanged on the larger system;
+``auto`` goes direct up to 192 unknowns. ``Solution.moments`` is the dipole part,
+``Solution.multipoles`` the full coefficients.
 
 Methods
 -------
@@ -51,6 +68,16 @@ Methods
 
 from ._api import METHODS, solve
 from ._common import estimate_spectral_radius
+from ._model_error import NearContactWarning, closest_pair, multipole_model_error, near_contact_estimate
 from ._solution import Solution
 
-__all__ = ["solve", "Solution", "estimate_spectral_radius", "METHODS"]
+__all__ = [
+    "solve",
+    "Solution",
+    "estimate_spectral_radius",
+    "METHODS",
+    "NearContactWarning",
+    "closest_pair",
+    "near_contact_estimate",
+    "multipole_model_error",
+]

@@ -10,6 +10,7 @@ from ._common import MomentSystem, column_norms
 from ._direct import direct
 from ._fixed_point import fixed_point
 from ._krylov import cocg, gmres
+from ._model_error import multipole_model_error, near_contact_check
 from ._solution import Solution
 
 METHODS = ("auto", "fixed_point", "cocg", "gmres", "direct")
@@ -86,18 +87,23 @@ def solve(
 
     t0 = time.perf_counter()
     system = MomentSystem(scene, operator if operator is not None else _make_op(scene, backend, rtol))
-    n, k = scene.n_bodies, system.n_rhs
+    n, k, m = scene.n_bodies, system.n_rhs, system.n_per_body
     if x0 is None:
         start = system.b.copy()
     else:
         start = as_float_array(x0, "x0", allow_complex=True)
         if start.shape == (n, 3) and k == 1:
             start = start[:, :, None]
-        if start.shape != (n, 3, k):
-            raise InputError(f"x0: expected shape ({n}, 3, {k}), got {start.shape}", "x0")
+        if start.ndim == 3 and start.shape[0] == n and start.shape[2] == k and start.shape[1] in (3, m):
+            if start.shape[1] != m:
+                full = np.zeros((n, m, k), dtype=start.dtype)
+                full[:, :3] = start
+                start = full
+        else:
+            raise InputError(f"x0: expected shape ({n}, 3, {k}) or ({n}, {m}, {k}), got {start.shape}", "x0")
         start = start.astype(system.dtype) if system.dtype.kind == "c" else start.real
 
-    chosen, why = _choose(method, scene)
+    chosen, why = _choose(method, scene, m)
     spectral = None
     extra = {}
     if chosen == "direct":
@@ -144,9 +150,21 @@ def solve(
         reason = "converged"
     elif reason == "converged":
         reason = "inaccurate"
+    p = np.asarray(p, dtype=system.dtype)
+    if m != 3 or hasattr(system.op, "orders"):
+        extra["orders"] = np.asarray(system.op.orders)
+        extra["operator"] = system.op.describe()
+        extra["multipole_operator"] = system.op
+        if getattr(system.op, "check_error", False) and ok:
+            extra["model_error"] = multipole_model_error(
+                scene, system.op, np.asarray(p), rtol=rtol, maxiter=maxiter
+            )
+    else:
+        near_contact_check(scene, extra)
     return Solution(
         scene=scene,
-        moments=np.asarray(p, dtype=system.dtype),
+        moments=p[:, :3] if m != 3 else p,
+        multipoles=p if hasattr(system.op, "orders") else None,
         converged=ok,
         reason=reason,
         method=chosen,
@@ -167,16 +185,23 @@ def solve(
 def _make_op(scene, backend, rtol):
     from ..operators import make_operator
 
+    if backend == "multipole":
+        return make_operator(scene, backend)
     if backend in ("auto", "fmm") and scene.boundary == "open":
         # A multipole error a tenth of the tolerance keeps the measured residual honest.
         return make_operator(scene, backend, accuracy=min(1e-3, max(1e-14, 0.1 * rtol)))
     return make_operator(scene, backend)
 
 
-def _choose(method, scene):
+def _choose(method, scene, n_per_body=3):
     if method != "auto":
         return method, "requested"
     n = scene.n_bodies
+    if n_per_body != 3:
+        size = n * n_per_body
+        if size <= 3 * AUTO_DIRECT_MAX_PERIODIC:
+            return "direct", f"auto: {size} multipole unknowns <= {3 * AUTO_DIRECT_MAX_PERIODIC}, dense LU"
+        return "cocg", f"auto: {size} multipole unknowns, matrix-free COCG on the symmetrised system"
     if scene.boundary == "periodic":
         if n <= AUTO_DIRECT_MAX_PERIODIC:
             return (

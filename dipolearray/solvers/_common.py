@@ -6,24 +6,47 @@ from ..operators import make_operator
 
 
 def block_apply(blocks, x):
-    """Per-body 3x3 products: ``(N, 3, 3) @ (N, 3, K) -> (N, 3, K)``."""
+    """Per-body block products: ``(N, m, m) @ (N, m, K) -> (N, m, K)``.
+
+    ``blocks`` may also be a response object with an ``apply`` method (the multipole
+    backend's block-diagonal response).
+    """
+    if hasattr(blocks, "apply"):
+        return blocks.apply(x)
     return np.einsum("nij,njk->nik", blocks, x)
 
 
 def column_norms(x):
-    """2-norm of each right-hand side of an ``(N, 3, K)`` array -> ``(K,)``."""
+    """2-norm of each right-hand side of an ``(N, m, K)`` array -> ``(K,)``."""
     return np.sqrt(np.einsum("nck,nck->k", x.conj(), x).real)
 
 
 class MomentSystem:
-    """``M p = b`` with ``M = I - alpha T`` and ``b = alpha E0`` for one scene."""
+    """``M p = b`` with ``M = I - alpha T`` and ``b = alpha E0`` for one scene.
+
+    With ``m = op.n_per_body`` unknowns per body (3 for dipoles); operators that carry
+    more than the dipole provide ``response()`` and ``response_sqrt()`` (the body
+    blocks of ``alpha`` and ``alpha^1/2``). The applied field enters the first three
+    unknowns (the dipole degree) only.
+    """
 
     def __init__(self, scene, operator=None):
         self.scene = scene
         self.op = operator if operator is not None else make_operator(scene)
-        self.alpha = np.asarray(scene.polarizability)
+        self.n_per_body = int(self.op.n_per_body)
+        if hasattr(self.op, "response"):
+            self.alpha = self.op.response()
+            self.alpha_sqrt = self.op.response_sqrt()
+        else:
+            self.alpha = np.asarray(scene.polarizability)
+            self.alpha_sqrt = np.asarray(scene.polarizability_sqrt)
         e0 = np.asarray(scene.field, dtype=float).T  # (3, K)
-        self.e0 = np.broadcast_to(e0, (scene.n_bodies, 3, e0.shape[1]))
+        if self.n_per_body == 3:
+            self.e0 = np.broadcast_to(e0, (scene.n_bodies, 3, e0.shape[1]))
+        else:
+            full = np.zeros((scene.n_bodies, self.n_per_body, e0.shape[1]))
+            full[:, :3] = e0[None]
+            self.e0 = full
         self.b = block_apply(self.alpha, self.e0)
         self.b_norm = column_norms(self.b)
         self.dtype = scene.dtype
@@ -72,7 +95,7 @@ def estimate_spectral_radius(scene, operator=None, n_iter=40, seed=0):
     """
     system = MomentSystem(scene, operator)
     rng = np.random.default_rng(seed)
-    v = rng.standard_normal((scene.n_bodies, 3, 1)).astype(system.dtype)
+    v = rng.standard_normal((scene.n_bodies, system.n_per_body, 1)).astype(system.dtype)
     v /= column_norms(v)[0]
     norms = []
     for _ in range(n_iter):

@@ -24,8 +24,9 @@ def cocg(system, *, rtol, atol, maxiter, x0, callback, max_restarts=3):
     for solving Ax = b, where A is symmetric complex. IEEE Trans. Magn. 26, 706.
     """
     scene = system.scene
-    half = np.asarray(scene.polarizability_sqrt)
-    work = np.complex128 if (np.iscomplexobj(half) or system.dtype.kind == "c") else np.float64
+    half = system.alpha_sqrt
+    cplx = (half.dtype.kind == "c") if hasattr(half, "apply") else np.iscomplexobj(half)
+    work = np.complex128 if (cplx or system.dtype.kind == "c") else np.float64
     half = half.astype(work)
     c = block_apply(half, system.e0.astype(work))
     tol = system.tolerance(rtol, atol)
@@ -86,6 +87,8 @@ def _initial_q(system, half, x0, c):
     if default:
         return c.copy()
     # General start: solve alpha^1/2 q = x0 body by body (singular blocks: least squares).
+    if hasattr(half, "solve"):
+        return half.solve(x0.astype(c.dtype)).astype(c.dtype)
     q = np.empty_like(c)
     for i in range(x0.shape[0]):
         q[i] = np.linalg.lstsq(half[i], x0[i].astype(c.dtype), rcond=None)[0]
@@ -98,11 +101,12 @@ def gmres(system, *, rtol, atol, maxiter, x0, callback, restart=60):
     from scipy.sparse.linalg import gmres as scipy_gmres
 
     n = system.scene.n_bodies
-    size = 3 * n
+    m = system.n_per_body
+    size = m * n
     dt = system.dtype
 
     def matvec(v):
-        x = v.reshape(n, 3, 1).astype(dt, copy=False)
+        x = v.reshape(n, m, 1).astype(dt, copy=False)
         return (x - system.coupling(x)).reshape(-1)
 
     M = LinearOperator((size, size), matvec=matvec, dtype=dt)
@@ -132,7 +136,7 @@ def gmres(system, *, rtol, atol, maxiter, x0, callback, restart=60):
             callback=cb,
             callback_type="pr_norm",
         )
-        p[:, :, k] = sol.reshape(n, 3)
+        p[:, :, k] = sol.reshape(n, m)
         total_it += len(col) - 1
         hist_cols.append(col)
         if info != 0:

@@ -42,6 +42,13 @@ class Solution:
         Wall time of the solve in seconds.
     rtol, atol : float
         The tolerances asked for.
+    extra : dict
+        Method-specific records (for multipole solves: ``orders``, ``operator``; for
+        dipole solves of spheres near contact: ``near_contact``, see
+        :func:`dipolearray.solvers.model_error`).
+    multipoles : (N, M, K) ndarray or None
+        Multipole solves only: every body's induced-potential coefficients (real Racah
+        solid harmonics, the first three are ``moments``); None for point dipoles.
     """
 
     scene: object
@@ -60,8 +67,13 @@ class Solution:
     rtol: float
     atol: float
     extra: dict = field(default_factory=dict)
+    multipoles: np.ndarray | None = None
 
     def __post_init__(self):
+        if self.multipoles is not None:
+            mp = np.ascontiguousarray(self.multipoles)
+            mp.setflags(write=False)
+            object.__setattr__(self, "multipoles", mp)
         for name in ("moments", "residual_history", "residual"):
             arr = np.ascontiguousarray(getattr(self, name))
             arr.setflags(write=False)

@@ -18,6 +18,7 @@ from ._ewald import (
     structure_factors,
 )
 from ._jit import get_num_threads, set_num_threads
+from ._multipole import near_field as multipole_near_field
 from ._pme import pme_gather, pme_spread
 
 __all__ = [
@@ -26,6 +27,7 @@ __all__ = [
     "dipole_pair_forces",
     "ewald_field",
     "ewald_field_at",
+    "multipole_near_field",
     "pme_spread",
     "pme_gather",
     "screening_table",

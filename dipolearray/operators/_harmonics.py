@@ -1,0 +1,232 @@
+"""Real solid harmonics in Racah normalisation, their rotations and axial translations.
+
+Basis and ordering
+------------------
+Unknowns of one body are the real coefficients ``u[l, m]`` for ``1 <= l <= L`` and
+``-l <= m <= l``, ``L (L + 2)`` numbers. The flat index of ``(l, m)`` is
+``l*l - 1 + l + m`` except for ``l = 1``, which is stored in Cartesian order
+``(x, y, z) = (m=+1, m=-1, m=0)`` so that the first three unknowns of a body are its
+dipole moment exactly as in the point-dipole backends.
+
+With ``C_l^m = sqrt((l-m)!/(l+m)!) P_l^m(cos theta) e^{i m phi}`` (no Condon-Shortley
+phase) the real harmonics are ``c_l0 = C_l^0``, ``c_lm = sqrt(2) Re C_l^m`` and
+``c_l,-m = sqrt(2) Im C_l^m`` for ``m > 0``; regular ``R_lm = r^l c_lm`` and irregular
+``I_lm = c_lm / r^(l+1)``. Then ``R_1 = (x, y, z)`` and
+``1/|r - r'| = sum_lm R_lm(r') I_lm(r)`` for ``|r'| < |r|`` (the addition theorem of
+Legendre polynomials, e.g. Jackson, Classical Electrodynamics, 3rd ed., eq. 3.70), so the
+coefficients of ``I_lm`` are the physical multipole moments ``Q_lm = int rho R_lm dV``.
+
+References
+----------
+Pinchon, D. and Hoggan, P. E. (2007). Rotation matrices for real spherical harmonics:
+general rotations of atomic orbitals in space-fixed axes. J. Phys. A 40, 1597 (the
+factorisation of a general rotation into z-rotations and one fixed quarter turn).
+"""
+
+from __future__ import annotations
+
+from functools import lru_cache
+
+import numpy as np
+from scipy.special import gammaln, sph_harm_y
+
+
+def n_unknowns(order: int) -> int:
+    """Unknowns per body for multipoles up to ``order``: ``L (L + 2)``."""
+    return order * (order + 2)
+
+
+def flat_index(l: int, m: int) -> int:  # noqa: E741 - l is the conventional degree
+    """Position of ``(l, m)`` in a body's coefficient vector."""
+    if l == 1:
+        return {1: 0, -1: 1, 0: 2}[m]
+    return l * l - 1 + l + m
+
+
+def degree_slices(order: int):
+    """``[(l, start, stop)]``: where degree ``l`` lives in the flat vector."""
+    return [(l, l * l - 1, (l + 1) * (l + 1) - 1) for l in range(1, order + 1)]
+
+
+def _block_perm(l: int) -> np.ndarray:
+    """Within-degree position of ``m = -l..l`` (identity except the Cartesian l = 1)."""
+    if l == 1:
+        return np.array([1, 2, 0])  # m=-1 -> y (1), m=0 -> z (2), m=+1 -> x (0)
+    return np.arange(2 * l + 1)
+
+
+def real_harmonics(l: int, directions) -> np.ndarray:  # noqa: E741
+    """Real Racah harmonics ``c_lm`` of degree ``l`` at unit vectors.
+
+    Parameters
+    ----------
+    l : int
+    directions : (P, 3) ndarray of float
+        Unit vectors.
+
+    Returns
+    -------
+    (P, 2l+1) ndarray of float
+        Column ``l + m`` holds ``c_lm`` (natural m order, no Cartesian permutation).
+    """
+    d = np.asarray(directions, dtype=float)
+    theta = np.arccos(np.clip(d[:, 2], -1.0, 1.0))
+    phi = np.arctan2(d[:, 1], d[:, 0])
+    out = np.empty((d.shape[0], 2 * l + 1))
+    scale = np.sqrt(4.0 * np.pi / (2 * l + 1))
+    for m in range(0, l + 1):
+        # scipy's Y_l^m carries the Condon-Shortley phase (-1)^m; Racah's C_l^m does not.
+        c = scale * (-1.0) ** m * sph_harm_y(l, m, theta, phi)
+        if m == 0:
+            out[:, l] = c.real
+        else:
+            out[:, l + m] = np.sqrt(2.0) * c.real
+            out[:, l - m] = np.sqrt(2.0) * c.imag
+    return out
+
+
+def solid_harmonics(points, order: int, kind: str = "regular") -> np.ndarray:
+    """``R_lm`` (regular) or ``I_lm`` (irregular) at points, in the flat body ordering.
+
+    Parameters
+    ----------
+    points : (P, 3) ndarray of float
+    order : int
+    kind : {"regular", "irregular"}
+
+    Returns
+    -------
+    (P, L(L+2)) ndarray of float
+    """
+    pts = np.asarray(points, dtype=float)
+    r = np.linalg.norm(pts, axis=1)
+    safe = np.where(r > 0, r, 1.0)
+    u = pts / safe[:, None]
+    out = np.empty((pts.shape[0], n_unknowns(order)))
+    for l, a, b in degree_slices(order):
+        c = real_harmonics(l, u)[:, _block_perm(l).argsort()] if l == 1 else real_harmonics(l, u)
+        rad = r**l if kind == "regular" else safe ** (-(l + 1))
+        out[:, a:b] = c * rad[:, None]
+    return out
+
+
+def _permute_degree(mat: np.ndarray, l: int) -> np.ndarray:  # noqa: E741
+    """Express a natural-order (m = -l..l) degree-l matrix in the stored ordering."""
+    if l != 1:
+        return mat
+    p = _block_perm(1)
+    out = np.empty_like(mat)
+    out[np.ix_(p, p)] = mat
+    return out
+
+
+@lru_cache(maxsize=None)
+def quarter_turn(l: int) -> np.ndarray:  # noqa: E741
+    """``X_l``: the degree-l representation of the quarter turn about +x (stored ordering).
+
+    ``c_lm(A^T u) = sum_m' X[m, m'] c_lm'(u)`` for ``A`` the rotation by +pi/2 about x.
+    Computed by projection with a product quadrature (Gauss-Legendre in cos theta,
+    uniform in phi) that is exact for the degree-2l integrand.
+    """
+    nt = l + 1
+    nphi = 2 * l + 2
+    x, w = np.polynomial.legendre.leggauss(nt)
+    phi = 2.0 * np.pi * np.arange(nphi) / nphi
+    ct = np.repeat(x, nphi)
+    st = np.sqrt(1.0 - ct**2)
+    ph = np.tile(phi, nt)
+    u = np.stack([st * np.cos(ph), st * np.sin(ph), ct], axis=1)
+    weights = np.repeat(w, nphi) * (2.0 * np.pi / nphi)
+    # A^T u for A = Rx(+pi/2): (x, y, z) -> (x, z, -y).
+    at_u = np.stack([u[:, 0], u[:, 2], -u[:, 1]], axis=1)
+    c = real_harmonics(l, u)
+    ca = real_harmonics(l, at_u)
+    X = (2 * l + 1) / (4.0 * np.pi) * (ca * weights[:, None]).T @ c
+    X = np.round(X, 15)
+    return np.ascontiguousarray(_permute_degree(X, l))
+
+
+def quarter_turns(order: int) -> np.ndarray:
+    """All ``X_l`` for ``l = 1..L`` packed in one ``(L, 2L+1, 2L+1)`` array (zero padded)."""
+    out = np.zeros((order, 2 * order + 1, 2 * order + 1))
+    for l in range(1, order + 1):
+        out[l - 1, : 2 * l + 1, : 2 * l + 1] = quarter_turn(l)
+    return out
+
+
+def axial_coefficients(order_out: int, order_in: int) -> np.ndarray:
+    """Translation of irregular harmonics along +z into regular ones at the new centre.
+
+    For a source at the origin and a target centre at ``t e_z`` (``t > 0``), a point
+    ``t e_z + rho`` with ``|rho| < t`` has
+    ``I_lm(t e_z + rho) = sum_j A[j, l, |m|] (-1)^(j+m) R_jm(rho) / t^(l+j+1)``, with
+    ``A[j, l, m] = (l+j)! / sqrt((l-m)! (l+m)! (j-m)! (j+m)!)``, symmetric in ``l, j``
+    (Racah normalisation; derived from the expansion of ``1/|t e_z + rho|`` in Legendre
+    polynomials and checked numerically in the tests).
+
+    Returns
+    -------
+    (order_out+1, order_in+1, min(order_out, order_in)+1) ndarray of float
+        ``A`` with the sign ``(-1)^(j+m)`` folded in (zero where ``m > min(j, l)``).
+    """
+    out = np.zeros((order_out + 1, order_in + 1, min(order_out, order_in) + 1))
+    for j in range(order_out + 1):
+        for l in range(order_in + 1):
+            for m in range(min(j, l) + 1):
+                logc = gammaln(l + j + 1) - 0.5 * (
+                    gammaln(l - m + 1) + gammaln(l + m + 1) + gammaln(j - m + 1) + gammaln(j + m + 1)
+                )
+                out[j, l, m] = (-1.0) ** (j + m) * np.exp(logc)
+    return out
+
+
+def _zrot(u, order, gamma):
+    """``Z(gamma)`` on degrees 1..order of ``u`` (axis 1), out of place."""
+    out = u.copy()
+    for l in range(1, order + 1):  # noqa: E741
+        for m in range(1, l + 1):
+            ip, im = flat_index(l, m), flat_index(l, -m)
+            c, s = np.cos(m * gamma), np.sin(m * gamma)
+            out[:, ip] = c * u[:, ip] + s * u[:, im]
+            out[:, im] = -s * u[:, ip] + c * u[:, im]
+    return out
+
+
+def _xrot(u, order, transpose=False):
+    out = u.copy()
+    for l, a, b in degree_slices(order):
+        X = quarter_turn(l)
+        out[:, a:b] = np.einsum("pq,nq...->np...", X.T if transpose else X, u[:, a:b])
+    return out
+
+
+def rotate_into(u, order: int, direction) -> np.ndarray:
+    """Coefficients of the same functions in a frame whose +z axis is ``direction``.
+
+    Parameters
+    ----------
+    u : (N, L(L+2), ...) ndarray
+        Coefficients (irregular or regular: both transform alike).
+    order : int
+    direction : (3,) array_like
+
+    Returns
+    -------
+    ndarray
+        ``X^T Z(-theta) X Z(phi) u`` with ``(theta, phi)`` the polar angles of ``direction``.
+    """
+    n = np.asarray(direction, dtype=float)
+    n = n / np.linalg.norm(n)
+    theta = np.arccos(np.clip(n[2], -1.0, 1.0))
+    phi = np.arctan2(n[1], n[0])
+    w = _zrot(u, order, phi)
+    w = _xrot(w, order)
+    w = _zrot(w, order, -theta)
+    return _xrot(w, order, transpose=True)
+
+
+def z_derivative_weights(order: int) -> np.ndarray:
+    """``w`` with ``d/dz R_lm = w[l, |m|] R_(l-1)m`` (Racah normalisation): ``sqrt((l-m)(l+m))``."""
+    l = np.arange(order + 1)[:, None]  # noqa: E741
+    m = np.arange(order + 1)[None, :]
+    return np.sqrt(np.clip((l - m) * (l + m), 0, None).astype(float))

@@ -1,0 +1,539 @@
+"""Multipole coupling between spheres beyond the point dipole.
+
+Each sphere carries the real coefficients ``u_lm`` (``1 <= l <= L_i``) of its induced
+potential ``sum u_lm I_lm(r - c_i)`` (basis in ``_harmonics.py``; ``u_1`` is the dipole
+moment). In the generalised field ``F_lm = -V_lm`` (minus the coefficients of the regular
+expansion of the incident potential, so ``F_1`` is the incident field) the equations keep
+the point-dipole form ``u_i = K_i (F0_i + sum_j G_ij u_j)``, with the response of a sphere
+diagonal in ``(l, m)``.
+"""
+
+from __future__ import annotations
+
+from functools import lru_cache
+
+import numpy as np
+
+from .._validate import as_int, as_positive
+from ..errors import InputError
+from ._base import InteractionOperator, make_operator, register_backend
+from ._harmonics import axial_coefficients, degree_slices, n_unknowns, quarter_turns
+
+#: Default largest multipole degree the automatic order choice may use.
+MAX_ORDER = 40
+
+#: Gap bins per decade of the pair model (gaps are rounded down to a bin edge).
+_BINS_PER_DECADE = 12
+
+
+def sphere_response(l, eps_inclusion, eps_host):
+    """Response ``k_l`` of a sphere to an incident regular field of degree ``l``.
+
+    Parameters
+    ----------
+    l : int or ndarray of int
+    eps_inclusion, eps_host : complex or float
+
+    Returns
+    -------
+    complex or float
+        ``k_l = l (eps_i - eps_h) / (l eps_i + (l + 1) eps_h)``: an incident potential
+        ``V r^l Y_lm`` induces the outside potential ``-k_l a^(2l+1) V r^-(l+1) Y_lm``.
+
+    Notes
+    -----
+    From continuity of the potential and of the normal displacement at ``r = a``
+    (Stratton, J. A. (1941), Electromagnetic Theory, sec. 3.23; the ``l = 1`` case is
+    Jackson, Classical Electrodynamics, 3rd ed., eq. 4.54). A perfect conductor
+    (``eps_i -> inf``) has ``k_l = 1``.
+    """
+    l = np.asarray(l)  # noqa: E741
+    return l * (eps_inclusion - eps_host) / (l * eps_inclusion + (l + 1) * eps_host)
+
+
+class BodyResponse:
+    """Block-diagonal response of the bodies in multipole unknowns.
+
+    The dipole block of every body is its ``(3, 3)`` polarizability (so spheroids keep
+    their tensor); degrees ``l >= 2`` are diagonal (``k_l a^(2l+1)`` for spheres up to
+    their order, zero above it and for non-spherical bodies).
+
+    Attributes
+    ----------
+    dipole : (N, 3, 3) ndarray
+    higher : (N, M - 3) ndarray
+    """
+
+    def __init__(self, dipole, higher):
+        self.dipole = np.asarray(dipole)
+        self.higher = np.asarray(higher)
+
+    @property
+    def dtype(self):
+        """Common dtype of the blocks."""
+        return np.result_type(self.dipole, self.higher)
+
+    def apply(self, x):
+        """``K x`` for ``x`` of shape ``(N, M, K)``."""
+        out = np.empty(x.shape, dtype=np.result_type(self.dtype, x))
+        out[:, :3] = np.einsum("nij,njk->nik", self.dipole, x[:, :3])
+        out[:, 3:] = self.higher[:, :, None] * x[:, 3:]
+        return out
+
+    def astype(self, dtype):
+        """The same response with blocks cast to ``dtype``."""
+        return BodyResponse(self.dipole.astype(dtype), self.higher.astype(dtype))
+
+    def solve(self, x):
+        """Least-squares ``K^-1 x`` body by body (zero where the response is zero)."""
+        out = np.zeros(x.shape, dtype=np.result_type(self.dtype, x))
+        for i in range(x.shape[0]):
+            out[i, :3] = np.linalg.lstsq(self.dipole[i], x[i, :3], rcond=None)[0]
+        nz = self.higher != 0
+        safe = np.where(nz, self.higher, 1.0)
+        out[:, 3:] = np.where(nz[:, :, None], x[:, 3:] / safe[:, :, None], 0.0)
+        return out
+
+
+def _log_axial(order):
+    """``log|A[j, l, m]|`` and its sign, for the pair model at high order."""
+    from scipy.special import gammaln
+
+    j = np.arange(order + 1)[:, None, None]
+    l = np.arange(order + 1)[None, :, None]  # noqa: E741
+    m = np.arange(order + 1)[None, None, :]
+    ok = (m <= j) & (m <= l)
+    with np.errstate(invalid="ignore"):
+        la = gammaln(l + j + 1) - 0.5 * (
+            gammaln(np.maximum(l - m, 0) + 1)
+            + gammaln(l + m + 1)
+            + gammaln(np.maximum(j - m, 0) + 1)
+            + gammaln(j + m + 1)
+        )
+    sign = np.where((j + m + 0 * l) % 2 == 0, 1.0, -1.0)
+    return np.where(ok, la, -np.inf), sign
+
+
+@lru_cache(maxsize=8)
+def _log_axial_cached(order):
+    return _log_axial(order)
+
+
+def pair_dipoles(distance, radii, eps, eps_host, order, m):
+    """Dipole moments of two spheres on the z axis in a unit field, multipoles to ``order``.
+
+    The two-sphere problem separates in ``m``: ``m = 0`` is a field along the line of
+    centres, ``m = 1`` a field across it. Solved densely in the symmetric scaled
+    unknowns ``u_l / sqrt(k_l a^(2l+1))`` with the coupling computed in logarithms, so
+    orders of several hundred are fine.
+
+    Parameters
+    ----------
+    distance : float
+        Centre distance (sphere 1 at the origin, sphere 2 at ``+distance e_z``).
+    radii : (2,) sequence of float
+    eps : (2,) sequence of complex or float
+        Relative permittivities of the spheres.
+    eps_host : complex or float
+    order : int
+    m : {0, 1}
+
+    Returns
+    -------
+    (2,) ndarray
+        Dipole moment (component along the field) of each sphere.
+    """
+    la, sign = _log_axial_cached(int(order))
+    ls = np.arange(max(1, m), order + 1)
+    a1, a2 = float(radii[0]), float(radii[1])
+    k1 = sphere_response(ls, eps[0], eps_host) * 1.0
+    k2 = sphere_response(ls, eps[1], eps_host) * 1.0
+    s1 = np.sqrt(k1.astype(complex))
+    s2 = np.sqrt(k2.astype(complex))
+    jj, ll = np.meshgrid(ls, ls, indexing="ij")
+    logd = np.log(distance)
+    # V2_j = sum_l A[j,l,m] u1_l / d^(l+j+1); symmetric scaling by a1^(l+1/2) a2^(j+1/2).
+    mag = np.exp(la[jj, ll, m] + (ll + 0.5) * np.log(a1) + (jj + 0.5) * np.log(a2) - (ll + jj + 1) * logd)
+    g21 = sign[jj, ll, m] * mag  # target 2 (rows j), source 1 (columns l)
+    # Target 1 at -d e_z from source 2: parity gives A (-1)^(l+j), radii swapped.
+    mag12 = np.exp(la[jj, ll, m] + (ll + 0.5) * np.log(a2) + (jj + 0.5) * np.log(a1) - (ll + jj + 1) * logd)
+    g12 = sign[jj, ll, m] * np.where((ll + jj) % 2 == 0, 1.0, -1.0) * mag12
+    n = ls.size
+    M = np.eye(2 * n, dtype=complex)
+    # y = K^-1/2 u:  y1 + s1 (G12 s2 y2) = s1 F0  (F = -V).
+    M[:n, n:] = s1[:, None] * g12 * s2[None, :]
+    M[n:, :n] = s2[:, None] * g21 * s1[None, :]
+    rhs = np.zeros(2 * n, dtype=complex)
+    rhs[0] = s1[0] * a1**1.5
+    rhs[n] = s2[0] * a2**1.5
+    y = np.linalg.solve(M, rhs)
+    p1 = s1[0] * a1**1.5 * y[0]
+    p2 = s2[0] * a2**1.5 * y[n]
+    out = np.array([p1, p2])
+    if not (np.iscomplexobj(eps[0]) or np.iscomplexobj(eps[1]) or np.iscomplexobj(eps_host)):
+        out = out.real
+    return out
+
+
+def pair_model(gap, eps, eps_host, accuracy, max_order=MAX_ORDER):
+    """Order needed by two equal unit spheres at ``gap`` and the point-dipole error there.
+
+    Parameters
+    ----------
+    gap : float
+        Surface gap in sphere radii.
+    eps : (2,) sequence
+        Relative permittivities of the two spheres.
+    eps_host : complex or float
+    accuracy : float
+        Relative accuracy wanted on the dipole moments of the pair.
+    max_order : int
+
+    Returns
+    -------
+    order : int
+        Smallest ``L`` such that every ``L' >= L`` up to ``max_order`` gives both dipole
+        moments, for the field along and across the line of centres, within
+        ``accuracy`` of the ``max_order`` solution.
+    dipole_error : float
+        Relative error of the point-dipole (``L = 1``) moments against ``max_order``.
+    resolved : bool
+        Whether ``max_order`` itself changed the moments by less than ``accuracy``
+        relative to ``max_order - 4``.
+    """
+    d = 2.0 + float(gap)
+    radii = (1.0, 1.0)
+    errs = np.zeros(max_order + 1)
+    resolved = True
+    for m in (0, 1):
+        ref = pair_dipoles(d, radii, eps, eps_host, max_order, m)
+        scale = max(np.max(np.abs(ref)), 1e-300)
+        for L in range(1, max_order + 1):
+            e = np.max(np.abs(pair_dipoles(d, radii, eps, eps_host, L, m) - ref)) / scale
+            errs[L] = max(errs[L], e)
+        if max_order > 5 and errs[max_order - 4] > accuracy:
+            resolved = False
+    bad = np.nonzero(errs[1:] > accuracy)[0]
+    order = 1 if bad.size == 0 else int(bad[-1]) + 2
+    return min(order, max_order), float(errs[1]), resolved
+
+
+@lru_cache(maxsize=4096)
+def _pair_model_cached(gap_bin, eps_pair, eps_host, accuracy, max_order):
+    gap = 10.0 ** (gap_bin / _BINS_PER_DECADE)
+    return pair_model(gap, eps_pair, eps_host, accuracy, max_order)
+
+
+def _gap_bin(gap):
+    """Bin index rounding the gap down (a smaller gap never needs a lower order)."""
+    return int(np.floor(np.log10(max(gap, 1e-9)) * _BINS_PER_DECADE))
+
+
+def dipole_cutoff_gap(eps_pair, eps_host, accuracy, max_order=MAX_ORDER):
+    """Smallest binned gap (in radii of the smaller sphere) at which the point dipole suffices."""
+    hi = 4 * _BINS_PER_DECADE  # gap 1e4 radii
+    lo = -9 * _BINS_PER_DECADE
+    if _pair_model_cached(hi, eps_pair, eps_host, accuracy, max_order)[0] > 1:
+        return 10.0 ** (hi / _BINS_PER_DECADE)
+    while hi - lo > 1:
+        mid = (hi + lo) // 2
+        if _pair_model_cached(mid, eps_pair, eps_host, accuracy, max_order)[0] > 1:
+            lo = mid
+        else:
+            hi = mid
+    return 10.0 ** (hi / _BINS_PER_DECADE)
+
+
+def _key(value):
+    return complex(value) if np.iscomplexobj(value) else float(value)
+
+
+@register_backend("multipole")
+class MultipoleOperator(InteractionOperator):
+    """Spheres coupled to multipole order ``L`` near each other, as point dipoles far apart.
+
+    Every pair of bodies couples through the point-dipole operator of the scene (direct
+    or fast multipole, chosen as for dipoles); pairs whose gap needs more than the dipole
+    get the full multipole coupling between their degrees, by rotating the pair axis onto
+    z, translating along it and rotating back (O(L^3) per pair).
+
+    Parameters
+    ----------
+    scene : Scene
+        Open boundary. Non-spherical bodies stay at dipole level.
+    order : int or "auto"
+        ``"auto"``: every near pair gets the order its gap and contrast need for
+        ``accuracy`` (from the two-sphere model :func:`pair_model`), every sphere the
+        largest order of its pairs. An integer ``L``: every sphere with a near neighbour
+        carries degree ``L`` and all its near pairs couple to ``L`` (``L = 1`` is the
+        point-dipole model).
+    accuracy : float
+        Relative accuracy wanted on the dipole moments; selects the near pairs (gap
+        below :func:`dipole_cutoff_gap`) and, for ``"auto"``, the orders.
+    max_order : int
+        Largest degree ``"auto"`` may use.
+    dipole_backend : str
+        Backend of the all-pairs dipole part (``"auto"``, ``"direct"`` or ``"fmm"``).
+    check_error : bool
+        Whether :func:`dipolearray.solvers.solve` follows the solve with the a posteriori
+        model-error estimate (a second solve with the closest pairs refined), recorded
+        in ``Solution.extra["model_error"]``.
+
+    Attributes
+    ----------
+    orders : (N,) ndarray of int
+        Degree carried by each body.
+    pairs : (P, 2) ndarray of int
+        Near pairs ``i < j``.
+    pair_orders : (P,) ndarray of int
+    closest_gap : float
+        Smallest surface gap between spheres (reduced length), ``inf`` when N < 2.
+    unresolved_pairs : int
+        Near pairs whose order hit ``max_order`` before the pair model converged.
+
+    References
+    ----------
+    Pinchon, D. and Hoggan, P. E. (2007), J. Phys. A 40, 1597 (real rotations);
+    Greengard, L. and Rokhlin, V. (1997), Acta Numerica 6, 229 (rotate-translate-rotate
+    for the translation operators of the fast multipole method).
+    """
+
+    def __init__(
+        self, scene, order="auto", accuracy=1e-6, max_order=MAX_ORDER, dipole_backend="auto", check_error=True
+    ):
+        super().__init__(scene)
+        self.check_error = bool(check_error)
+        if scene.boundary != "open":
+            raise InputError(
+                "backend: 'multipole' sums an open boundary (periodic multipoles are not available yet)",
+                "backend",
+            )
+        self.accuracy = as_positive(accuracy, "accuracy")
+        if not 0 < self.accuracy < 1:
+            raise InputError(f"accuracy: expected 0 < accuracy < 1, got {accuracy}", "accuracy")
+        self.max_order = as_int(max_order, "max_order", minimum=1, maximum=200)
+        if isinstance(order, str):
+            if order != "auto":
+                raise InputError(f"order: expected 'auto' or an integer >= 1, got {order!r}", "order")
+            fixed = None
+        else:
+            fixed = as_int(order, "order", minimum=1, maximum=200)
+        self.order_rule = "auto" if fixed is None else f"uniform {fixed}"
+        self._positions = np.ascontiguousarray(scene.positions, dtype=np.float64)
+        self._select_pairs(fixed)
+        self.n_per_body = n_unknowns(int(self.orders.max()))
+        self._setup_kernels()
+        dip_opts = {"accuracy": 0.1 * self.accuracy} if dipole_backend in ("auto", "fmm") else {}
+        self._dipole = make_operator(scene, dipole_backend, **dip_opts)
+
+    # -- geometry -------------------------------------------------------------------
+    def _select_pairs(self, fixed):
+        from scipy.spatial import cKDTree
+
+        scene = self.scene
+        n = scene.n_bodies
+        spherical = np.asarray(scene.is_spherical, dtype=bool)
+        radii = np.asarray(scene.semi_axes)[:, 0].astype(float)
+        bound = np.asarray(scene.bounding_radii, dtype=float)
+        eps = np.asarray(scene.eps_inclusion)
+        eh = _key(scene.eps_host)
+        acc = self.accuracy
+        pops = np.asarray(scene.population_index)
+        # Cut-off gap per population pair, from the two-sphere model.
+        cut = {}
+        for a in np.unique(pops):
+            for b in np.unique(pops):
+                ea, eb = _key(eps[pops == a][0]), _key(eps[pops == b][0])
+                key = (ea, eb) if (str(ea) <= str(eb)) else (eb, ea)
+                cut[(a, b)] = dipole_cutoff_gap(key, eh, acc, self.max_order)
+        rmax = float(bound.max()) if n else 0.0
+        gmax = max(cut.values()) if cut else 0.0
+        tree = cKDTree(self._positions)
+        cand = tree.query_pairs(2.0 * rmax + gmax * rmax, output_type="ndarray") if n > 1 else np.zeros((0, 2), int)
+        i, j = (cand[:, 0], cand[:, 1]) if cand.size else (np.zeros(0, int), np.zeros(0, int))
+        d = np.linalg.norm(self._positions[i] - self._positions[j], axis=1)
+        gap = d - bound[i] - bound[j]
+        rmin = np.minimum(bound[i], bound[j])
+        self.closest_gap = float(gap.min()) if gap.size else float("inf")
+        rel = gap / rmin
+        both = spherical[i] & spherical[j]
+        keep = np.array(
+            [rel[e] < cut[(pops[i[e]], pops[j[e]])] for e in range(i.size)], dtype=bool
+        ) if i.size else np.zeros(0, bool)
+        i, j, rel, rmin = i[keep], j[keep], rel[keep], rmin[keep]
+        both = both[keep]
+        orders_pair = np.ones(i.size, dtype=np.int64)
+        body = np.ones(n, dtype=np.int64)
+        cap = self.max_order if fixed is None else fixed
+        near = np.zeros(i.size, dtype=bool)
+        unresolved = 0
+        for e in range(i.size):
+            a, b = i[e], j[e]
+            ea, eb = _key(eps[a]), _key(eps[b])
+            key = (ea, eb) if (str(ea) <= str(eb)) else (eb, ea)
+            L, _err, ok = _pair_model_cached(_gap_bin(rel[e]), key, eh, acc, self.max_order)
+            if L <= 1:
+                continue
+            near[e] = True
+            if fixed is not None:
+                L = fixed
+            elif not ok:
+                unresolved += 1
+            want = []
+            for c in (a, b):
+                if not spherical[c]:
+                    want.append(1)
+                elif fixed is not None or not both[e]:
+                    want.append(L)
+                else:
+                    # A larger sphere must resolve the smaller one's field: scale by the size ratio.
+                    want.append(min(int(np.ceil(L * radii[c] / rmin[e] - 1e-9)), cap))
+            orders_pair[e] = max(want)
+            body[a] = max(body[a], want[0])
+            body[b] = max(body[b], want[1])
+        sel = near
+        self.pairs = np.stack([i[sel], j[sel]], axis=1).astype(np.int64) if i.size else np.zeros((0, 2), np.int64)
+        self.pair_orders = orders_pair[sel]
+        self.orders = body
+        self.unresolved_pairs = int(unresolved)
+
+    def _setup_kernels(self):
+        lmax = int(self.orders.max())
+        n = self.n_bodies
+        i, j = self.pairs[:, 0], self.pairs[:, 1]
+        tgt = np.concatenate([i, j])
+        src = np.concatenate([j, i])
+        po = np.concatenate([self.pair_orders, self.pair_orders])
+        order = np.argsort(tgt, kind="stable")
+        self._neighbours = np.ascontiguousarray(src[order], dtype=np.int64)
+        self._nb_orders = np.ascontiguousarray(po[order], dtype=np.int64)
+        self._offsets = np.zeros(n + 1, dtype=np.int64)
+        np.cumsum(np.bincount(tgt, minlength=n), out=self._offsets[1:])
+        self._X = quarter_turns(max(lmax, 1))
+        self._A = axial_coefficients(lmax + 1, lmax + 1)
+
+    # -- contract -------------------------------------------------------------------
+    def _apply(self, x):
+        from ._kernels import multipole_near_field
+
+        out = np.zeros_like(x)
+        out[:, :3] = self._dipole._apply(np.ascontiguousarray(x[:, :3]))
+        if self.pairs.shape[0]:
+            multipole_near_field(
+                self._positions, self.orders, self._offsets, self._neighbours, self._nb_orders,
+                self._X, self._A, x, out,
+            )  # fmt: skip
+        return out
+
+    def response(self) -> BodyResponse:
+        """Block-diagonal response ``K`` of the bodies (see :class:`BodyResponse`)."""
+        return self._response(1.0)
+
+    def response_sqrt(self) -> BodyResponse:
+        """Principal square root of :meth:`response` (complex where a block is negative)."""
+        return self._response(0.5)
+
+    def _response(self, power):
+        scene = self.scene
+        dip = np.asarray(scene.polarizability if power == 1.0 else scene.polarizability_sqrt)
+        n, m = self.n_bodies, self.n_per_body
+        radii = np.asarray(scene.semi_axes)[:, 0]
+        eps = np.asarray(scene.eps_inclusion)
+        eh = scene.eps_host
+        high = np.zeros((n, m - 3), dtype=np.result_type(eps, complex(eh) if np.iscomplexobj(eh) else eh, float))
+        for l, a, b in degree_slices(int(self.orders.max())):
+            if l == 1:
+                continue
+            k = sphere_response(l, eps, eh) * radii ** (2 * l + 1)
+            k = np.where(self.orders >= l, k, 0.0)
+            high[:, a - 3 : b - 3] = k[:, None]
+        if power != 1.0:
+            if np.any(np.real(high) < 0) and not np.iscomplexobj(high):
+                high = high.astype(complex)
+            high = high**power
+        if np.iscomplexobj(high) and not np.any(high.imag) and not np.iscomplexobj(dip):
+            high = high.real
+        if np.iscomplexobj(high) and not np.iscomplexobj(dip):
+            dip = dip.astype(complex)
+        return BodyResponse(dip, high)
+
+    def describe(self) -> str:
+        """One line: orders and near pairs."""
+        return (
+            f"multipole ({self.order_rule}, accuracy {self.accuracy:g}): orders up to {int(self.orders.max())}, "
+            f"{self.pairs.shape[0]} near pairs, dipole part {self._dipole.backend}"
+        )
+
+    def near_potential(self, x, extra_degrees=1):
+        """Regular-expansion coefficients at each body of the near pairs' potential.
+
+        Parameters
+        ----------
+        x : (N, M, K) ndarray of float
+            Multipole coefficients of all bodies.
+        extra_degrees : int
+            Degrees beyond each body's own order to expand to (1 for forces).
+
+        Returns
+        -------
+        (N, M', K) ndarray of float
+            ``V`` of ``sum_j u_j I(r - c_j)`` over the near neighbours j of each body, to
+            degree ``orders + extra_degrees`` (``M' = n_unknowns(max order + extra)``);
+            the dipole-dipole degree (1 from 1) is left out, as in :meth:`apply`.
+        """
+        from ._kernels import multipole_near_field
+
+        lmax = int(self.orders.max()) + extra_degrees
+        m_out = n_unknowns(lmax)
+        xin = np.zeros((x.shape[0], m_out, x.shape[2]))
+        xin[:, : x.shape[1]] = x
+        out = np.zeros_like(xin)
+        if self.pairs.shape[0]:
+            multipole_near_field(
+                self._positions, self.orders + extra_degrees, self._offsets, self._neighbours,
+                self._nb_orders + extra_degrees, quarter_turns(lmax), axial_coefficients(lmax, lmax), xin, out,
+            )  # fmt: skip
+        return -out
+
+    def refined(self, n_pairs=20, extra_degrees=None):
+        """A copy with higher orders on the ``n_pairs`` closest near pairs.
+
+        Parameters
+        ----------
+        n_pairs : int
+            How many of the closest near pairs (by gap over the smaller radius) to refine.
+        extra_degrees : int, optional
+            Degrees added to those pairs and their bodies (default ``max(4, L/2)`` of
+            each pair's order).
+
+        Returns
+        -------
+        MultipoleOperator
+            Same scene and dipole part; used for the a posteriori model-error estimate.
+        """
+        import copy
+
+        new = copy.copy(self)
+        if self.pairs.shape[0] == 0:
+            return new
+        i, j = self.pairs[:, 0], self.pairs[:, 1]
+        d = np.linalg.norm(self._positions[i] - self._positions[j], axis=1)
+        bound = np.asarray(self.scene.bounding_radii, dtype=float)
+        ratio = (d - bound[i] - bound[j]) / np.minimum(bound[i], bound[j])
+        pick = np.argsort(ratio, kind="stable")[: int(n_pairs)]
+        po = self.pair_orders.copy()
+        orders = self.orders.copy()
+        spherical = np.asarray(self.scene.is_spherical, dtype=bool)
+        for e in pick:
+            add = extra_degrees if extra_degrees is not None else max(4, int(np.ceil(po[e] / 2)))
+            po[e] += add
+            for c in (i[e], j[e]):
+                if spherical[c]:
+                    orders[c] = max(orders[c], self.orders[c] + add)
+        new.pair_orders = po
+        new.orders = orders
+        new.n_per_body = n_unknowns(int(orders.max()))
+        new.n_applies = 0
+        new._setup_kernels()
+        new.order_rule = self.order_rule + f", {len(pick)} closest pairs refined"
+        return new

@@ -1,0 +1,198 @@
+from __future__ import annotations
+
+import warnings
+from functools import lru_cache
+
+import numpy as np
+
+#: A point-dipole solve warns when the two-sphere model puts its error above this.
+NEAR_CONTACT_WARN = 0.05
+
+
+class NearContactWarning(UserWarning):
+    """The point-dipole model is inaccurate for the closest pair of spheres."""
+
+
+def _nearest_gaps(scene):
+    """Nearest sphere neighbour of every sphere: ``(spheres, neighbours, gap, gap_ratio)``."""
+    from scipy.spatial import cKDTree
+
+    sph = np.nonzero(np.asarray(scene.is_spherical, dtype=bool))[0]
+    if sph.size < 2:
+        return None
+    pos = np.asarray(scene.positions, dtype=float)[sph]
+    radii = np.asarray(scene.semi_axes, dtype=float)[sph, 0]
+    if scene.boundary == "periodic":
+        box = np.asarray(scene.box, dtype=float)
+        pts = np.mod(pos, box)
+        pts = np.where(pts >= box, 0.0, pts)
+        tree = cKDTree(pts, boxsize=box)
+    else:
+        pts = pos
+        tree = cKDTree(pts)
+    kq = min(8, sph.size)
+    dist, idx = tree.query(pts, k=kq)
+    dist, idx = dist[:, 1:], idx[:, 1:]
+    ri = radii[:, None]
+    rj = radii[idx]
+    gap = dist - ri - rj
+    ratio = gap / np.minimum(ri, rj)
+    best = np.argmin(ratio, axis=1)
+    rows = np.arange(sph.size)
+    return sph, sph[idx[rows, best]], gap[rows, best], ratio[rows, best]
+
+
+def closest_pair(scene):
+    """Closest pair of spheres by surface gap relative to the smaller radius.
+
+    Returns
+    -------
+    dict or None
+        ``{"pair": (i, j), "gap": reduced gap, "gap_ratio": gap / smaller radius}``;
+        None when the scene has fewer than two spheres.
+    """
+    got = _nearest_gaps(scene)
+    if got is None:
+        return None
+    sph, nb, gap, ratio = got
+    a = int(np.argmin(ratio))
+    return {"pair": (int(sph[a]), int(nb[a])), "gap": float(gap[a]), "gap_ratio": float(ratio[a])}
+
+
+#: Gap bins per decade of the point-dipole error table.
+_ERROR_BINS = 8
+
+
+@lru_cache(maxsize=4096)
+def _dipole_error_binned(gap_bin, eps_pair, eps_host):
+    from ..operators import pair_dipoles
+
+    gap = 10.0 ** (gap_bin / _ERROR_BINS)
+    d = 2.0 + gap
+    worst = 0.0
+    for m in (0, 1):
+        ref = pair_dipoles(d, (1.0, 1.0), eps_pair, eps_host, 80, m)
+        one = pair_dipoles(d, (1.0, 1.0), eps_pair, eps_host, 1, m)
+        worst = max(worst, float(np.max(np.abs(one - ref)) / max(np.max(np.abs(ref)), 1e-300)))
+    return worst
+
+
+def _as_key(value):
+    return complex(value) if np.iscomplexobj(value) else float(value)
+
+
+def near_contact_estimate(scene):
+    """Estimated point-dipole error of ``scene`` from its closest pairs.
+
+    Every sphere's nearest neighbour (by gap over the smaller radius) is replaced by two
+    equal spheres of their materials at that relative gap (rounded down to 1/8 decade),
+    solved with multipoles to degree 80 (:func:`dipolearray.operators.pair_dipoles`).
+    The relative difference of the pair's dipole moments from the point-dipole values
+    (worst of the field along and across the pair) is the pair error.
+
+    Returns
+    -------
+    dict or None
+        ``closest_pair`` keys plus ``dipole_error`` (of the closest pair) and
+        ``total_moment_error`` (the mean pair error over all spheres: a rough estimate of
+        the relative error of the sample's total moment); None when there is no pair.
+    """
+    got = _nearest_gaps(scene)
+    if got is None:
+        return None
+    sph, nb, gap, ratio = got
+    eps = np.asarray(scene.eps_inclusion)
+    eh = _as_key(scene.eps_host)
+    bins = np.floor(np.log10(np.maximum(ratio, 1e-9)) * _ERROR_BINS).astype(int)
+    pops = np.asarray(scene.population_index)
+    rows = np.stack([pops[sph], pops[nb], bins], axis=1)
+    uniq, inverse = np.unique(rows, axis=0, return_inverse=True)
+    table = np.zeros(uniq.shape[0])
+    for u, (pa, pb, b) in enumerate(uniq):
+        if b > 3 * _ERROR_BINS:
+            continue
+        ea = _as_key(eps[sph[pops[sph] == pa][0]])
+        eb = _as_key(eps[nb[pops[nb] == pb][0]])
+        key = (ea, eb) if str(ea) <= str(eb) else (eb, ea)
+        table[u] = _dipole_error_binned(int(b), key, eh)
+    errs = table[np.asarray(inverse).reshape(-1)]
+    a = int(np.argmin(ratio))
+    return {
+        "pair": (int(sph[a]), int(nb[a])),
+        "gap": float(gap[a]),
+        "gap_ratio": float(ratio[a]),
+        "dipole_error": float(errs[a]),
+        "total_moment_error": float(errs.sum() / scene.n_bodies),
+    }
+
+
+def near_contact_check(scene, extra):
+    """Record (and warn about) the point-dipole error of the closest pairs in ``extra``."""
+    if scene.n_bodies < 2:
+        return
+    info = near_contact_estimate(scene)
+    if info is None:
+        return
+    extra["near_contact"] = info
+    if info["dipole_error"] >= NEAR_CONTACT_WARN:
+        i, j = info["pair"]
+        warnings.warn(
+            f"point-dipole model: spheres {i} and {j} are {info['gap_ratio']:.3g} radii apart (surface gap); "
+            f"a two-sphere multipole solve puts the dipole-moment error of such a pair near "
+            f"{100 * info['dipole_error']:.2g} % (about {100 * info['total_moment_error']:.2g} % on the total "
+            "moment, from every sphere's nearest neighbour); local fields and forces there are "
+            "underestimated; solve with backend='multipole' for near-contact scenes",
+            NearContactWarning,
+            stacklevel=3,
+        )
+
+
+def multipole_model_error(scene, op, moments_full, *, rtol, maxiter, n_pairs=20):
+    """A posteriori model error of a multipole solve: re-solve with the closest pairs refined.
+
+    The orders of the ``n_pairs`` closest near pairs (and their spheres) are raised
+    (:meth:`MultipoleOperator.refined`), the system is solved again from the first
+    solution, and the change of the dipole moments is the estimate.
+
+    Returns
+    -------
+    dict
+        ``total_moment_error``: largest relative change of the total dipole moment over
+        the applied fields; ``body_moment_error``: largest change of any body's dipole
+        relative to the largest body dipole; ``refined_pairs``; ``orders_refined`` (the
+        largest order in the refined solve); ``converged``.
+    """
+    from ._common import MomentSystem, column_norms
+    from ._krylov import cocg
+
+    if op.pairs.shape[0] == 0:
+        return {
+            "total_moment_error": 0.0,
+            "body_moment_error": 0.0,
+            "refined_pairs": 0,
+            "orders_refined": int(op.orders.max()),
+            "converged": True,
+            "note": "no pair closer than the point-dipole cut-off gap",
+        }
+    fine = op.refined(n_pairs=n_pairs)
+    system = MomentSystem(scene, fine)
+    x0 = np.zeros((scene.n_bodies, fine.n_per_body, system.n_rhs), dtype=moments_full.dtype)
+    x0[:, : moments_full.shape[1]] = moments_full
+    if system.dtype.kind == "f":
+        x0 = x0.real
+    p2, _h, _it, reason = cocg(system, rtol=rtol, atol=0.0, maxiter=maxiter, x0=x0, callback=None)
+    ok = bool(np.all(column_norms(system.residual(p2)) <= system.tolerance(rtol, 0.0)))
+    d1 = moments_full[:, :3]
+    d2 = p2[:, :3]
+    tot1 = d1.sum(axis=0)
+    tot2 = d2.sum(axis=0)
+    tot_err = np.max(np.linalg.norm(tot2 - tot1, axis=0) / np.maximum(np.linalg.norm(tot2, axis=0), 1e-300))
+    body_scale = max(float(np.max(np.linalg.norm(d2, axis=1))), 1e-300)
+    body_err = float(np.max(np.linalg.norm(d2 - d1, axis=1)) / body_scale)
+    return {
+        "total_moment_error": float(tot_err),
+        "body_moment_error": body_err,
+        "refined_pairs": int(min(n_pairs, op.pairs.shape[0])),
+        "orders_refined": int(fine.orders.max()),
+        "converged": ok,
+    }
