@@ -175,6 +175,16 @@ def pair_dipoles(distance, radii, eps, eps_host, order, m):
     return out
 
 
+def order_grid(max_order):
+    """Orders the automatic choice may use: every order to 8, then steps growing with L."""
+    grid = list(range(1, min(8, max_order) + 1))
+    L = 8
+    while L < max_order:
+        L = min(max_order, L + max(2, L // 4))
+        grid.append(L)
+    return grid
+
+
 def pair_model(gap, eps, eps_host, accuracy, max_order=MAX_ORDER):
     """Order needed by two equal unit spheres at ``gap`` and the point-dipole error there.
 
@@ -192,30 +202,38 @@ def pair_model(gap, eps, eps_host, accuracy, max_order=MAX_ORDER):
     Returns
     -------
     order : int
-        Smallest ``L`` such that every ``L' >= L`` up to ``max_order`` gives both dipole
-        moments, for the field along and across the line of centres, within
-        ``accuracy`` of the ``max_order`` solution.
+        Smallest order of :func:`order_grid` such that it and every larger grid order
+        (up to convergence) give both dipole moments, for the field along and across
+        the line of centres, within ``accuracy`` of the converged solution.
     dipole_error : float
-        Relative error of the point-dipole (``L = 1``) moments against ``max_order``.
+        Relative error of the point-dipole (``L = 1``) moments.
     resolved : bool
-        Whether ``max_order`` itself changed the moments by less than ``accuracy``
-        relative to ``max_order - 4``.
+        Whether the moments converged (three successive grid orders within
+        ``accuracy / 10`` of each other) at or below ``max_order``.
     """
     d = 2.0 + float(gap)
     radii = (1.0, 1.0)
-    errs = np.zeros(max_order + 1)
+    grid = order_grid(max_order)
     resolved = True
+    worst = np.zeros(len(grid))
     for m in (0, 1):
-        ref = pair_dipoles(d, radii, eps, eps_host, max_order, m)
-        scale = max(np.max(np.abs(ref)), 1e-300)
-        for L in range(1, max_order + 1):
-            e = np.max(np.abs(pair_dipoles(d, radii, eps, eps_host, L, m) - ref)) / scale
-            errs[L] = max(errs[L], e)
-        if max_order > 5 and errs[max_order - 4] > accuracy:
+        vals = []
+        for L in grid:
+            vals.append(pair_dipoles(d, radii, eps, eps_host, L, m))
+            if len(vals) >= 3:
+                a, b, c = vals[-3:]
+                scale = max(np.max(np.abs(c)), 1e-300)
+                if max(np.max(np.abs(a - c)), np.max(np.abs(b - c))) <= 0.1 * accuracy * scale:
+                    break
+        else:
             resolved = False
-    bad = np.nonzero(errs[1:] > accuracy)[0]
-    order = 1 if bad.size == 0 else int(bad[-1]) + 2
-    return min(order, max_order), float(errs[1]), resolved
+        ref = vals[-1]
+        scale = max(np.max(np.abs(ref)), 1e-300)
+        for g, v in enumerate(vals):
+            worst[g] = max(worst[g], np.max(np.abs(v - ref)) / scale)
+    bad = np.nonzero(worst > accuracy)[0]
+    order = grid[0] if bad.size == 0 else grid[min(int(bad[-1]) + 1, len(grid) - 1)]
+    return int(order), float(worst[0]), resolved
 
 
 @lru_cache(maxsize=4096)
@@ -242,6 +260,13 @@ def dipole_cutoff_gap(eps_pair, eps_host, accuracy, max_order=MAX_ORDER):
         else:
             hi = mid
     return 10.0 ** (hi / _BINS_PER_DECADE)
+
+
+def _kernel_axial(order):
+    """Axial table laid out ``[m, j, l]`` for the kernel, dipole-dipole entries zeroed."""
+    A = np.ascontiguousarray(axial_coefficients(order, order).transpose(2, 0, 1))
+    A[:2, 1, 1] = 0.0
+    return A
 
 
 def _key(value):
@@ -339,63 +364,68 @@ class MultipoleOperator(InteractionOperator):
         eh = _key(scene.eps_host)
         acc = self.accuracy
         pops = np.asarray(scene.population_index)
+        upops = np.unique(pops)
+        pop_eps = {int(a): _key(eps[pops == a][0]) for a in upops}
+
+        def pair_key(a, b):
+            ea, eb = pop_eps[int(a)], pop_eps[int(b)]
+            return (ea, eb) if str(ea) <= str(eb) else (eb, ea)
+
         # Cut-off gap per population pair, from the two-sphere model.
-        cut = {}
-        for a in np.unique(pops):
-            for b in np.unique(pops):
-                ea, eb = _key(eps[pops == a][0]), _key(eps[pops == b][0])
-                key = (ea, eb) if (str(ea) <= str(eb)) else (eb, ea)
-                cut[(a, b)] = dipole_cutoff_gap(key, eh, acc, self.max_order)
+        npop = int(pops.max()) + 1 if n else 1
+        cutmat = np.zeros((npop, npop))
+        for a in upops:
+            for b in upops:
+                cutmat[a, b] = dipole_cutoff_gap(pair_key(a, b), eh, acc, self.max_order)
         rmax = float(bound.max()) if n else 0.0
-        gmax = max(cut.values()) if cut else 0.0
-        tree = cKDTree(self._positions)
-        cand = tree.query_pairs(2.0 * rmax + gmax * rmax, output_type="ndarray") if n > 1 else np.zeros((0, 2), int)
-        i, j = (cand[:, 0], cand[:, 1]) if cand.size else (np.zeros(0, int), np.zeros(0, int))
+        gmax = float(cutmat.max())
+        if n > 1:
+            cand = cKDTree(self._positions).query_pairs(2.0 * rmax + gmax * rmax, output_type="ndarray")
+        else:
+            cand = np.zeros((0, 2), dtype=np.int64)
+        cand = cand.reshape(-1, 2)
+        i, j = cand[:, 0], cand[:, 1]
         d = np.linalg.norm(self._positions[i] - self._positions[j], axis=1)
         gap = d - bound[i] - bound[j]
         rmin = np.minimum(bound[i], bound[j])
         self.closest_gap = float(gap.min()) if gap.size else float("inf")
-        rel = gap / rmin
-        both = spherical[i] & spherical[j]
-        keep = np.array(
-            [rel[e] < cut[(pops[i[e]], pops[j[e]])] for e in range(i.size)], dtype=bool
-        ) if i.size else np.zeros(0, bool)
+        rel = gap / np.where(rmin > 0, rmin, 1.0)
+        keep = rel < cutmat[pops[i], pops[j]]
         i, j, rel, rmin = i[keep], j[keep], rel[keep], rmin[keep]
-        both = both[keep]
-        orders_pair = np.ones(i.size, dtype=np.int64)
-        body = np.ones(n, dtype=np.int64)
+        both = spherical[i] & spherical[j]
+        bins = np.floor(np.log10(np.maximum(rel, 1e-9)) * _BINS_PER_DECADE).astype(np.int64)
+        rows = np.stack([pops[i], pops[j], bins], axis=1)
+        L = np.ones(i.size, dtype=np.int64)
+        ok = np.ones(i.size, dtype=bool)
+        if i.size:
+            uniq, inverse = np.unique(rows, axis=0, return_inverse=True)
+            inverse = np.asarray(inverse).reshape(-1)
+            tab_L = np.empty(uniq.shape[0], dtype=np.int64)
+            tab_ok = np.empty(uniq.shape[0], dtype=bool)
+            for u, (pa, pb, b) in enumerate(uniq):
+                Lu, _err, oku = _pair_model_cached(int(b), pair_key(pa, pb), eh, acc, self.max_order)
+                tab_L[u], tab_ok[u] = Lu, oku
+            L, ok = tab_L[inverse], tab_ok[inverse]
+        near = L > 1
         cap = self.max_order if fixed is None else fixed
-        near = np.zeros(i.size, dtype=bool)
-        unresolved = 0
-        for e in range(i.size):
-            a, b = i[e], j[e]
-            ea, eb = _key(eps[a]), _key(eps[b])
-            key = (ea, eb) if (str(ea) <= str(eb)) else (eb, ea)
-            L, _err, ok = _pair_model_cached(_gap_bin(rel[e]), key, eh, acc, self.max_order)
-            if L <= 1:
-                continue
-            near[e] = True
-            if fixed is not None:
-                L = fixed
-            elif not ok:
-                unresolved += 1
-            want = []
-            for c in (a, b):
-                if not spherical[c]:
-                    want.append(1)
-                elif fixed is not None or not both[e]:
-                    want.append(L)
-                else:
-                    # A larger sphere must resolve the smaller one's field: scale by the size ratio.
-                    want.append(min(int(np.ceil(L * radii[c] / rmin[e] - 1e-9)), cap))
-            orders_pair[e] = max(want)
-            body[a] = max(body[a], want[0])
-            body[b] = max(body[b], want[1])
-        sel = near
-        self.pairs = np.stack([i[sel], j[sel]], axis=1).astype(np.int64) if i.size else np.zeros((0, 2), np.int64)
-        self.pair_orders = orders_pair[sel]
+        if fixed is not None:
+            L = np.full(i.size, fixed, dtype=np.int64)
+        safe_rmin = np.where(rmin > 0, rmin, 1.0)
+
+        def want(c):
+            # A larger sphere must resolve the smaller one's field: scale its order by the size ratio.
+            scaled = np.minimum(np.ceil(L * radii[c] / safe_rmin - 1e-9).astype(np.int64), cap)
+            w = np.where((fixed is not None) | ~both, L, scaled)
+            return np.where(spherical[c], w, 1)
+
+        wi, wj = want(i), want(j)
+        body = np.ones(n, dtype=np.int64)
+        np.maximum.at(body, i[near], wi[near])
+        np.maximum.at(body, j[near], wj[near])
+        self.pairs = np.stack([i[near], j[near]], axis=1).astype(np.int64)
+        self.pair_orders = np.maximum(wi, wj)[near].astype(np.int64)
         self.orders = body
-        self.unresolved_pairs = int(unresolved)
+        self.unresolved_pairs = int(np.count_nonzero(near & ~ok)) if fixed is None else 0
 
     def _setup_kernels(self):
         lmax = int(self.orders.max())
@@ -410,7 +440,8 @@ class MultipoleOperator(InteractionOperator):
         self._offsets = np.zeros(n + 1, dtype=np.int64)
         np.cumsum(np.bincount(tgt, minlength=n), out=self._offsets[1:])
         self._X = quarter_turns(max(lmax, 1))
-        self._A = axial_coefficients(lmax + 1, lmax + 1)
+        self._XT = np.ascontiguousarray(self._X.transpose(0, 2, 1))
+        self._A = _kernel_axial(lmax + 1)
 
     # -- contract -------------------------------------------------------------------
     def _apply(self, x):
@@ -421,7 +452,7 @@ class MultipoleOperator(InteractionOperator):
         if self.pairs.shape[0]:
             multipole_near_field(
                 self._positions, self.orders, self._offsets, self._neighbours, self._nb_orders,
-                self._X, self._A, x, out,
+                self._X, self._XT, self._A, x, out,
             )  # fmt: skip
         return out
 
@@ -485,13 +516,15 @@ class MultipoleOperator(InteractionOperator):
 
         lmax = int(self.orders.max()) + extra_degrees
         m_out = n_unknowns(lmax)
+        X = quarter_turns(lmax)
         xin = np.zeros((x.shape[0], m_out, x.shape[2]))
         xin[:, : x.shape[1]] = x
         out = np.zeros_like(xin)
         if self.pairs.shape[0]:
             multipole_near_field(
                 self._positions, self.orders + extra_degrees, self._offsets, self._neighbours,
-                self._nb_orders + extra_degrees, quarter_turns(lmax), axial_coefficients(lmax, lmax), xin, out,
+                self._nb_orders + extra_degrees, X, np.ascontiguousarray(X.transpose(0, 2, 1)),
+                _kernel_axial(lmax), xin, out,
             )  # fmt: skip
         return -out
 
