@@ -234,6 +234,17 @@ def output_path(cfg, override=None) -> Path:
     return Path("runs") / f"{safe}.h5"
 
 
+def model_operator(cfg, scene):
+    """The interaction operator the config's ``[solver] model`` asks for (None: the default)."""
+    s = cfg.solver
+    if s["model"] != "multipole":
+        return None
+    from ..operators import MultipoleOperator
+
+    order = "auto" if s["multipole_order"] == 0 else int(s["multipole_order"])
+    return MultipoleOperator(scene, order=order, accuracy=s["model_accuracy"], max_order=s["max_order"])
+
+
 def run_config(
     cfg, *, output=None, overwrite=False, callback=None, save=True, save_unconverged=False, progress=None
 ):
@@ -261,6 +272,7 @@ def run_config(
         maxiter=s["maxiter"],
         relaxation=s["relaxation"],
         callback=callback,
+        operator=model_operator(cfg, scene),
     )
     if not save or (not sol.converged and not save_unconverged):
         return sol, None

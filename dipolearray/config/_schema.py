@@ -231,6 +231,22 @@ SECTIONS = {
         "atol": Key("float", 0.0, "absolute residual tolerance", minimum=0.0),
         "maxiter": Key("int", 1000, "iteration limit", minimum=1, maximum=10**6),
         "relaxation": Key("float", 1.0, "fixed-point relaxation w", minimum=1e-6, maximum=2.0),
+        "model": Key(
+            "str",
+            "dipole",
+            "physical model: 'dipole' (point dipoles; warns near contact) or 'multipole' (spheres carry "
+            "induced multipoles where gaps need them; open boundary)",
+            choices=("dipole", "multipole"),
+        ),
+        "multipole_order": Key(
+            "int", 0, "multipole order of every near pair; 0: chosen per pair for model_accuracy", minimum=0,
+            maximum=200,
+        ),
+        "model_accuracy": Key(
+            "float", 1e-6, "relative accuracy wanted on the dipole moments (multipole model)", minimum=1e-14,
+            maximum=0.5,
+        ),
+        "max_order": Key("int", 40, "largest multipole order the automatic choice may use", minimum=1, maximum=200),
     },
     "sweep": {
         "parameter": Key(
@@ -616,6 +632,12 @@ def parse_config(text: str, source: str = "<config>", overrides=None, *, check_s
         raise ConfigError(f"frequency.max: must exceed frequency.min ({fr['min']:g} Hz)", "frequency.max")
     if sections["solver"]["rtol"] == 0 and sections["solver"]["atol"] == 0:
         raise ConfigError("solver.rtol: rtol and atol cannot both be zero", "solver.rtol")
+    if sections["solver"]["model"] == "multipole" and arr["region"] == "periodic":
+        raise ConfigError(
+            "solver.model: 'multipole' needs an open sample (arrangement.region 'sphere' or 'cube'); "
+            "periodic multipoles are not available yet",
+            "solver.model",
+        )
     sweep = None
     if "sweep" in raw:
         sweep = _section(raw["sweep"], "sweep", "sweep")

@@ -84,6 +84,13 @@ def run_config_sweep(
     opts = dict(
         method=s["method"], rtol=s["rtol"], atol=s["atol"], maxiter=s["maxiter"], relaxation=s["relaxation"]
     )
+    if s["model"] == "multipole":
+        opts["backend"] = "multipole"
+        opts["backend_options"] = {
+            "order": "auto" if s["multipole_order"] == 0 else int(s["multipole_order"]),
+            "accuracy": s["model_accuracy"],
+            "max_order": s["max_order"],
+        }
     n_r = sw["realizations"] if realizations is None else realizations
     n_w = sw["workers"] if workers is None else workers
     addr = (sw["scheduler"] or None) if scheduler is None else (scheduler or None)

@@ -240,3 +240,50 @@ def z_derivative_weights(order: int) -> np.ndarray:
     l = np.arange(order + 1)[:, None]  # noqa: E741
     m = np.arange(order + 1)[None, :]
     return np.sqrt(np.clip((l - m) * (l + m), 0, None).astype(float))
+
+
+def quarter_turn_blocks(order: int, transpose: bool = False):
+    """The quarter turns ``X_l`` (or their transposes) as dense blocks, for the kernels.
+
+    By parity ``X_l`` is a permuted direct sum of four dense blocks (three quarters of
+    its entries vanish), so a rotation costs a quarter of a dense product.
+
+    Returns
+    -------
+    tuple of ndarray
+        ``(degree_start, rows_ptr, rows, cols, vals_ptr, vals)``: blocks of degree l are
+        ``degree_start[l] .. degree_start[l+1]``; block b maps positions
+        ``cols[rows_ptr[b]:rows_ptr[b+1]]`` of the degree to positions
+        ``rows[rows_ptr[b]:rows_ptr[b+1]]`` with the row-major square matrix
+        ``vals[vals_ptr[b]:vals_ptr[b+1]]``.
+    """
+    from scipy.sparse import coo_matrix
+    from scipy.sparse.csgraph import connected_components
+
+    start = [0, 0]
+    rptr, rows, cols, vptr, vals = [0], [], [], [0], []
+    for l in range(1, order + 1):  # noqa: E741
+        X = quarter_turn(l)
+        if transpose:
+            X = X.T
+        w = 2 * l + 1
+        nz = np.abs(X) > 1e-13
+        # Connected components of the row-column graph of the nonzeros (an entry that
+        # happens to vanish inside a block does not split it).
+        graph = coo_matrix(np.block([[np.zeros((w, w)), nz], [nz.T, np.zeros((w, w))]]))
+        _n, label = connected_components(graph, directed=False)
+        for comp in np.unique(label):
+            rset = np.nonzero(label[:w] == comp)[0]
+            cset = np.nonzero(label[w:] == comp)[0]
+            if len(cset) != len(rset):  # pragma: no cover - orthogonality makes blocks square
+                raise RuntimeError(f"quarter turn of degree {l}: non-square block")
+            rows.extend(rset.tolist())
+            cols.extend(cset.tolist())
+            rptr.append(len(rows))
+            vals.extend(X[np.ix_(rset, cset)].ravel())
+            vptr.append(len(vals))
+        start.append(len(rptr) - 1)
+    return tuple(
+        np.ascontiguousarray(a, dtype=np.float64 if k == 5 else np.int64)
+        for k, a in enumerate((start, rptr, rows, cols, vptr, vals))
+    )

@@ -17,7 +17,7 @@ import numpy as np
 from .._validate import as_int, as_positive
 from ..errors import InputError
 from ._base import InteractionOperator, make_operator, register_backend
-from ._harmonics import axial_coefficients, degree_slices, n_unknowns, quarter_turns
+from ._harmonics import axial_coefficients, degree_slices, n_unknowns, quarter_turn_blocks
 
 #: Default largest multipole degree the automatic order choice may use.
 MAX_ORDER = 40
@@ -262,6 +262,14 @@ def dipole_cutoff_gap(eps_pair, eps_host, accuracy, max_order=MAX_ORDER):
     return 10.0 ** (hi / _BINS_PER_DECADE)
 
 
+def _geometric_order(ratio, accuracy, cap):
+    """Largest degree ``l`` with ``(l + 2) ratio^(l + 1) > accuracy`` (at least 1), capped."""
+    ls = np.arange(1, cap + 1)
+    ok = (ls[None, :] + 2) * np.asarray(ratio)[:, None] ** (ls[None, :] + 1) > accuracy
+    last = np.where(ok.any(axis=1), cap - np.argmax(ok[:, ::-1], axis=1), 1)
+    return last.astype(np.int64)
+
+
 def _kernel_axial(order):
     """Axial table laid out ``[m, j, l]`` for the kernel, dipole-dipole entries zeroed."""
     A = np.ascontiguousarray(axial_coefficients(order, order).transpose(2, 0, 1))
@@ -299,6 +307,10 @@ class MultipoleOperator(InteractionOperator):
         Largest degree ``"auto"`` may use.
     dipole_backend : str
         Backend of the all-pairs dipole part (``"auto"``, ``"direct"`` or ``"fmm"``).
+    adaptive : bool
+        Whether :func:`dipolearray.solvers.solve` adds the pairs that the solved
+        multipoles show are needed (:meth:`extended`) and solves again (up to three
+        rounds).
     check_error : bool
         Whether :func:`dipolearray.solvers.solve` follows the solve with the a posteriori
         model-error estimate (a second solve with the closest pairs refined), recorded
@@ -324,10 +336,19 @@ class MultipoleOperator(InteractionOperator):
     """
 
     def __init__(
-        self, scene, order="auto", accuracy=1e-6, max_order=MAX_ORDER, dipole_backend="auto", check_error=True
+        self,
+        scene,
+        order="auto",
+        accuracy=1e-6,
+        max_order=MAX_ORDER,
+        dipole_backend="auto",
+        check_error=True,
+        adaptive=True,
     ):
         super().__init__(scene)
         self.check_error = bool(check_error)
+        self.adaptive = bool(adaptive)
+        self.n_added = 0
         if scene.boundary != "open":
             raise InputError(
                 "backend: 'multipole' sums an open boundary (periodic multipoles are not available yet)",
@@ -423,8 +444,19 @@ class MultipoleOperator(InteractionOperator):
         np.maximum.at(body, i[near], wi[near])
         np.maximum.at(body, j[near], wj[near])
         self.pairs = np.stack([i[near], j[near]], axis=1).astype(np.int64)
-        self.pair_orders = np.maximum(wi, wj)[near].astype(np.int64)
+        po = np.maximum(wi, wj)[near].astype(np.int64)
         self.orders = body
+        if fixed is None:
+            # A sphere that carries a high order because of one close partner must also
+            # see its other neighbours to that order (its strong response at high degree
+            # amplifies them): couple each pair up to the larger body order, as far as the
+            # geometric factor (l + 2) (a_max / d)^(l + 1) stays above the accuracy.
+            ii, jj = i[near], j[near]
+            dist = np.linalg.norm(self._positions[ii] - self._positions[jj], axis=1)
+            ratio = np.maximum(bound[ii], bound[jj]) / dist
+            geo = _geometric_order(ratio, acc, cap)
+            po = np.maximum(po, np.minimum(np.maximum(body[ii], body[jj]), geo))
+        self.pair_orders = po
         self.unresolved_pairs = int(np.count_nonzero(near & ~ok)) if fixed is None else 0
 
     def _setup_kernels(self):
@@ -439,8 +471,8 @@ class MultipoleOperator(InteractionOperator):
         self._nb_orders = np.ascontiguousarray(po[order], dtype=np.int64)
         self._offsets = np.zeros(n + 1, dtype=np.int64)
         np.cumsum(np.bincount(tgt, minlength=n), out=self._offsets[1:])
-        self._X = quarter_turns(max(lmax, 1))
-        self._XT = np.ascontiguousarray(self._X.transpose(0, 2, 1))
+        self._XB = quarter_turn_blocks(max(lmax, 1))
+        self._XTB = quarter_turn_blocks(max(lmax, 1), transpose=True)
         self._A = _kernel_axial(lmax + 1)
 
     # -- contract -------------------------------------------------------------------
@@ -452,7 +484,7 @@ class MultipoleOperator(InteractionOperator):
         if self.pairs.shape[0]:
             multipole_near_field(
                 self._positions, self.orders, self._offsets, self._neighbours, self._nb_orders,
-                self._X, self._XT, self._A, x, out,
+                self._XB, self._XTB, self._A, x, out,
             )  # fmt: skip
         return out
 
@@ -516,14 +548,13 @@ class MultipoleOperator(InteractionOperator):
 
         lmax = int(self.orders.max()) + extra_degrees
         m_out = n_unknowns(lmax)
-        X = quarter_turns(lmax)
         xin = np.zeros((x.shape[0], m_out, x.shape[2]))
         xin[:, : x.shape[1]] = x
         out = np.zeros_like(xin)
         if self.pairs.shape[0]:
             multipole_near_field(
                 self._positions, self.orders + extra_degrees, self._offsets, self._neighbours,
-                self._nb_orders + extra_degrees, X, np.ascontiguousarray(X.transpose(0, 2, 1)),
+                self._nb_orders + extra_degrees, quarter_turn_blocks(lmax), quarter_turn_blocks(lmax, True),
                 _kernel_axial(lmax), xin, out,
             )  # fmt: skip
         return -out
@@ -569,4 +600,124 @@ class MultipoleOperator(InteractionOperator):
         new.n_applies = 0
         new._setup_kernels()
         new.order_rule = self.order_rule + f", {len(pick)} closest pairs refined"
+        return new
+
+    def _degree_norms(self, x):
+        """``q[i, l]``: largest norm over right-hand sides of body i's degree-l coefficients."""
+        lmax = int(self.orders.max())
+        q = np.zeros((self.n_bodies, lmax + 1))
+        for l, a, b in degree_slices(lmax):
+            if l >= 2:
+                q[:, l] = np.max(np.sqrt(np.sum(np.abs(x[:, a:b]) ** 2, axis=1)), axis=-1)
+        return q
+
+    def _unlisted_pairs(self, x, tau, chunk=200_000):
+        """Chunks ``(i, j, d, q_i, q_j)`` of pairs not in the near list that one body's
+        degree >= 2 multipoles could reach above ``tau`` (bound ``(l + 1) q_l / d^(l+2)``)."""
+        from scipy.spatial import cKDTree
+
+        n = self.n_bodies
+        q = self._degree_norms(x)
+        ls = np.arange(q.shape[1])
+        with np.errstate(divide="ignore"):
+            reach = np.where(q > 0, ((ls + 1) * q / tau) ** (1.0 / (ls + 2)), 0.0)
+        reach[:, :2] = 0.0
+        radius = reach.max(axis=1)
+        bound = np.asarray(self.scene.bounding_radii, dtype=float)
+        strong = np.nonzero(radius > 2.0 * bound)[0]
+        if strong.size == 0:
+            return
+        tree = cKDTree(self._positions)
+        lists = tree.query_ball_point(self._positions[strong], radius[strong])
+        cj = np.repeat(strong, [len(v) for v in lists])
+        ci = np.concatenate([np.asarray(v, dtype=np.int64) for v in lists])
+        lo, hi = np.minimum(ci, cj), np.maximum(ci, cj)
+        keep = lo != hi
+        code = np.unique(lo[keep] * n + hi[keep])
+        if self.pairs.shape[0]:
+            code = np.setdiff1d(code, self.pairs[:, 0] * n + self.pairs[:, 1])
+        lo, hi = code // n, code % n
+        for c0 in range(0, lo.size, chunk):
+            a_, b_ = lo[c0 : c0 + chunk], hi[c0 : c0 + chunk]
+            d = np.linalg.norm(self._positions[a_] - self._positions[b_], axis=1)
+            yield a_, b_, d, q[a_], q[b_]
+
+    def neglected_field(self, x, field_scale=1.0):
+        """Bound on the field at each body from the multipoles (degree >= 2) this operator leaves out.
+
+        Sums ``(l + 1) |u_jl| / d^(l+2)`` over the pairs outside the near list, for every
+        pair within reach of a hundredth of ``accuracy * field_scale``.
+
+        Returns
+        -------
+        (N,) ndarray of float
+            Relative to ``field_scale``.
+        """
+        lmax = int(self.orders.max())
+        out = np.zeros(self.n_bodies)
+        if lmax < 2:
+            return out
+        ls = np.arange(lmax + 1)
+        for a_, b_, d, qa, qb in self._unlisted_pairs(x, 0.01 * self.accuracy * field_scale):
+            w = (ls + 1)[None, :] / d[:, None] ** (ls + 2)[None, :]
+            np.add.at(out, a_, np.sum(w[:, 2:] * qb[:, 2:], axis=1))
+            np.add.at(out, b_, np.sum(w[:, 2:] * qa[:, 2:], axis=1))
+        return out / field_scale
+
+    def extended(self, x, field_scale=1.0):
+        """A copy that also couples, at multipole level, the pairs that ``x`` shows are needed.
+
+        The two-sphere model chooses the near pairs as if every sphere's partner were
+        isolated; a sphere of a near-contact pair carries strong higher multipoles that
+        reach third bodies further away. From the solved coefficients ``x`` the field at
+        distance ``d`` of body j's degree-l multipoles is bounded by
+        ``(l + 1) |u_jl| / d^(l+2)``; every pair where that exceeds a tenth of
+        ``accuracy * field_scale`` is added, with the degrees that do.
+
+        Parameters
+        ----------
+        x : (N, M, K) ndarray
+            Multipole coefficients of a solve with this operator.
+        field_scale : float
+            Magnitude of the applied field.
+
+        Returns
+        -------
+        MultipoleOperator
+            ``self`` when nothing needs adding, else a copy with ``n_added`` set.
+        """
+        import copy
+
+        lmax = int(self.orders.max())
+        if lmax < 2:
+            return self
+        ls = np.arange(lmax + 1)
+        bound = np.asarray(self.scene.bounding_radii, dtype=float)
+        tau = 0.1 * self.accuracy * field_scale
+        new_i, new_j, new_L = [], [], []
+        for a_, b_, d, qa, qb in self._unlisted_pairs(x, tau):
+            terms = (ls + 1)[None, :] * np.maximum(qa, qb) / d[:, None] ** (ls + 2)[None, :]
+            over = terms[:, 2:] > tau
+            any_over = over.any(axis=1)
+            if not np.any(any_over):
+                continue
+            last = over.shape[1] - 1 - np.argmax(over[:, ::-1], axis=1) + 2
+            geo = _geometric_order(np.maximum(bound[a_], bound[b_]) / d, self.accuracy, lmax)
+            body_max = np.maximum(self.orders[a_], self.orders[b_])
+            Lp = np.maximum(last, np.minimum(body_max, geo))
+            new_i.append(a_[any_over])
+            new_j.append(b_[any_over])
+            new_L.append(Lp[any_over])
+        new_i = np.concatenate(new_i) if new_i else np.zeros(0, np.int64)
+        new_j = np.concatenate(new_j) if new_j else np.zeros(0, np.int64)
+        new_L = np.concatenate(new_L) if new_L else np.zeros(0, np.int64)
+        if new_i.size == 0:
+            return self
+        new = copy.copy(self)
+        new.pairs = np.concatenate([self.pairs, np.stack([new_i, new_j], axis=1)]).astype(np.int64)
+        new.pair_orders = np.concatenate([self.pair_orders, np.asarray(new_L, dtype=np.int64)])
+        new.n_added = int(new_i.size)
+        new.n_applies = 0
+        new._setup_kernels()
+        new.order_rule = self.order_rule + f", {new_i.size} pairs added from the solved multipoles"
         return new

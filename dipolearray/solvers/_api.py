@@ -33,6 +33,7 @@ def solve(
     relaxation: float = 1.0,
     backend: str = "auto",
     operator=None,
+    backend_options=None,
 ) -> Solution:
     """Find the self-consistent moments of every body of ``scene``.
 
@@ -58,6 +59,9 @@ def solve(
         Interaction operator backend (see :func:`dipolearray.operators.make_operator`).
     operator : InteractionOperator, optional
         A prebuilt operator for this scene (overrides ``backend``).
+    backend_options : dict, optional
+        Settings passed to the backend (for ``"multipole"``: ``order``, ``accuracy``,
+        ``max_order``; see :class:`dipolearray.operators.MultipoleOperator`).
 
     Returns
     -------
@@ -86,7 +90,9 @@ def solve(
         raise InputError("callback: expected a callable or None", "callback")
 
     t0 = time.perf_counter()
-    system = MomentSystem(scene, operator if operator is not None else _make_op(scene, backend, rtol))
+    system = MomentSystem(
+        scene, operator if operator is not None else _make_op(scene, backend, rtol, backend_options)
+    )
     n, k, m = scene.n_bodies, system.n_rhs, system.n_per_body
     if x0 is None:
         start = system.b.copy()
@@ -104,40 +110,30 @@ def solve(
         start = start.astype(system.dtype) if system.dtype.kind == "c" else start.real
 
     chosen, why = _choose(method, scene, m)
-    spectral = None
     extra = {}
-    if chosen == "direct":
-        p, reason = direct(system)
-        iterations = 0
-        history = None
-    elif chosen == "fixed_point":
-        p, history, iterations, reason, spectral = fixed_point(
-            system,
-            rtol=rtol,
-            atol=atol,
-            maxiter=maxiter,
-            x0=start,
-            callback=callback,
-            relaxation=relaxation,
-        )
-    elif chosen == "cocg":
-        p, history, iterations, reason = cocg(
-            system, rtol=rtol, atol=atol, maxiter=maxiter, x0=start, callback=callback
-        )
-        if reason != "converged" and method == "auto":
-            extra["cocg_reason"] = reason
-            why += f"; COCG stopped ({reason}) after {iterations} iterations, continued with GMRES"
-            p2, h2, it2, reason = gmres(
-                system, rtol=rtol, atol=atol, maxiter=maxiter, x0=p, callback=callback
+    p, history, iterations, reason, spectral, chosen, why = _run(
+        system, chosen, why, method, start, rtol, atol, maxiter, callback, relaxation, extra
+    )
+    applies = 0
+    if hasattr(system.op, "extended") and getattr(system.op, "adaptive", False):
+        # Pairs the two-sphere model missed: couple them and solve again from p.
+        added = 0
+        field_scale = float(np.max(np.linalg.norm(np.asarray(scene.field, dtype=float), axis=1)))
+        for _round in range(3):
+            op2 = system.op.extended(np.asarray(p), field_scale=field_scale)
+            if op2 is system.op:
+                break
+            added += op2.n_added
+            applies += system.op.n_applies
+            system = MomentSystem(scene, op2)
+            p, h2, it2, reason, spectral, chosen, why = _run(
+                system, chosen, why, "requested", p, rtol, atol, maxiter, callback, relaxation, extra
             )
-            history = np.concatenate([history, h2])
+            history = np.concatenate([history, h2]) if history is not None and h2 is not None else h2
             iterations += it2
-            p = p2
-            chosen = "cocg+gmres"
-    else:
-        p, history, iterations, reason = gmres(
-            system, rtol=rtol, atol=atol, maxiter=maxiter, x0=start, callback=callback
-        )
+        if added:
+            why += f"; {added} pairs added from the solved multipoles and solved again"
+            extra["pairs_added"] = added
 
     true_norm = column_norms(system.residual(p))
     residual = system.relative(true_norm)
@@ -171,7 +167,7 @@ def solve(
         method_reason=why,
         backend=system.op.backend,
         iterations=int(iterations),
-        n_applies=int(system.op.n_applies),
+        n_applies=int(system.op.n_applies + applies),
         residual_history=np.asarray(history, dtype=float),
         residual=residual,
         spectral_radius=spectral,
@@ -182,9 +178,48 @@ def solve(
     )
 
 
-def _make_op(scene, backend, rtol):
+def _run(system, chosen, why, method, start, rtol, atol, maxiter, callback, relaxation, extra):
+    spectral = None
+    if chosen == "direct":
+        p, reason = direct(system)
+        iterations = 0
+        history = None
+    elif chosen == "fixed_point":
+        p, history, iterations, reason, spectral = fixed_point(
+            system,
+            rtol=rtol,
+            atol=atol,
+            maxiter=maxiter,
+            x0=start,
+            callback=callback,
+            relaxation=relaxation,
+        )
+    elif chosen in ("cocg", "cocg+gmres"):
+        p, history, iterations, reason = cocg(
+            system, rtol=rtol, atol=atol, maxiter=maxiter, x0=start, callback=callback
+        )
+        if reason != "converged" and method == "auto":
+            extra["cocg_reason"] = reason
+            why += f"; COCG stopped ({reason}) after {iterations} iterations, continued with GMRES"
+            p2, h2, it2, reason = gmres(
+                system, rtol=rtol, atol=atol, maxiter=maxiter, x0=p, callback=callback
+            )
+            history = np.concatenate([history, h2])
+            iterations += it2
+            p = p2
+            chosen = "cocg+gmres"
+    else:
+        p, history, iterations, reason = gmres(
+            system, rtol=rtol, atol=atol, maxiter=maxiter, x0=start, callback=callback
+        )
+    return p, history, iterations, reason, spectral, chosen, why
+
+
+def _make_op(scene, backend, rtol, options=None):
     from ..operators import make_operator
 
+    if options:
+        return make_operator(scene, backend, **dict(options))
     if backend == "multipole":
         return make_operator(scene, backend)
     if backend in ("auto", "fmm") and scene.boundary == "open":

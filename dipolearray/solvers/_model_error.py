@@ -157,7 +157,10 @@ def multipole_model_error(scene, op, moments_full, *, rtol, maxiter, n_pairs=20)
     Returns
     -------
     dict
-        ``total_moment_error``: largest relative change of the total dipole moment over
+        ``far_field_bound``: largest bound, over bodies, on the field (relative to the
+        applied field) of the degree >= 2 multipoles of the pairs coupled only as point
+        dipoles (:meth:`MultipoleOperator.neglected_field`; the relative error it causes
+        in a body's dipole is of the same size); ``total_moment_error``: largest relative change of the total dipole moment over
         the applied fields; ``body_moment_error``: largest change of any body's dipole
         relative to the largest body dipole; ``refined_pairs``; ``orders_refined`` (the
         largest order in the refined solve); ``converged``.
@@ -165,8 +168,12 @@ def multipole_model_error(scene, op, moments_full, *, rtol, maxiter, n_pairs=20)
     from ._common import MomentSystem, column_norms
     from ._krylov import cocg
 
+    field_scale = float(np.max(np.linalg.norm(np.asarray(scene.field, dtype=float), axis=1)))
+    far = op.neglected_field(moments_full, field_scale=field_scale)
+    far_bound = float(far.max()) if far.size else 0.0
     if op.pairs.shape[0] == 0:
         return {
+            "far_field_bound": far_bound,
             "total_moment_error": 0.0,
             "body_moment_error": 0.0,
             "refined_pairs": 0,
@@ -190,6 +197,7 @@ def multipole_model_error(scene, op, moments_full, *, rtol, maxiter, n_pairs=20)
     body_scale = max(float(np.max(np.linalg.norm(d2, axis=1))), 1e-300)
     body_err = float(np.max(np.linalg.norm(d2 - d1, axis=1)) / body_scale)
     return {
+        "far_field_bound": far_bound,
         "total_moment_error": float(tot_err),
         "body_moment_error": body_err,
         "refined_pairs": int(min(n_pairs, op.pairs.shape[0])),

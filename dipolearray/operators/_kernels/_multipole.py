@@ -46,26 +46,30 @@ def _zrot(u, order, gamma):  # pragma: no cover - compiled
 
 
 @njit(**JIT)
-def _xrot(u, order, XT, tmp):  # pragma: no cover - compiled
-    """In place: ``u_l <- X_l u_l`` on degrees 1..order, given ``XT[l-1] = X_l^T`` (axpy form)."""
+def _xrot(u, order, start, rptr, rows, cols, vptr, vals, g, tmp):  # pragma: no cover - compiled
+    """In place: the quarter turns on degrees 1..order of ``u`` (K, M), as dense blocks."""
     k = u.shape[0]
     for l in range(1, order + 1):
         a0 = l * l - 1
-        w = 2 * l + 1
-        Xt = XT[l - 1]
         for r in range(k):
-            for p in range(w):
-                tmp[p] = 0.0
-            for q in range(w):
-                c = u[r, a0 + q]
-                for p in range(w):
-                    tmp[p] += Xt[q, p] * c
-            for p in range(w):
+            for b in range(start[l], start[l + 1]):
+                r0 = rptr[b]
+                nb = rptr[b + 1] - r0
+                v0 = vptr[b]
+                for c in range(nb):
+                    g[c] = u[r, a0 + cols[r0 + c]]
+                for p in range(nb):
+                    acc = 0.0
+                    base = v0 + p * nb
+                    for c in range(nb):
+                        acc += vals[base + c] * g[c]
+                    tmp[rows[r0 + p]] = acc
+            for p in range(2 * l + 1):
                 u[r, a0 + p] = tmp[p]
 
 
 @njit(**JIT_PARALLEL)
-def near_field(pos, orders, offsets, neighbours, pair_orders, X, XT, A, x, out):  # pragma: no cover
+def near_field(pos, orders, offsets, neighbours, pair_orders, XB, XTB, A, x, out):  # pragma: no cover
     """Subtract from ``out`` the multipole potential coefficients of the near pairs.
 
     ``out[i] -= D(A) T_z D(A)^T x[j]`` summed over the neighbours j of i, where ``D(A)``
@@ -73,17 +77,21 @@ def near_field(pos, orders, offsets, neighbours, pair_orders, X, XT, A, x, out):
     regular at i); ``A[m, j, l]`` is the signed axial table with the dipole-dipole entries
     ``A[m, 1, 1]`` zeroed (the caller adds that term for every pair).
     Source degrees stop at ``min(orders[j], pair_order)``, target degrees at
-    ``min(orders[i], pair_order)``. ``XT`` holds the transposes of ``X``.
+    ``min(orders[i], pair_order)``. ``XB`` and ``XTB`` are the block tables of the quarter
+    turns and of their transposes (``quarter_turn_blocks``).
     """
     n = pos.shape[0]
     mtot = x.shape[1]
     k = x.shape[2]
-    lmax = X.shape[0]
+    lmax = XB[0].shape[0] - 2
+    s0, s1, s2, s3, s4, s5 = XB
+    t0, t1, t2, t3, t4, t5 = XTB
     for i in prange(n):
         u = np.empty((k, mtot))
         v = np.empty((k, mtot))
         acc = np.zeros((k, mtot))
         tmp = np.empty(2 * lmax + 1)
+        g = np.empty(2 * lmax + 1)
         inv_pow = np.empty(2 * lmax + 2)
         ul = np.empty(lmax + 2)
         nt_max = 0
@@ -108,9 +116,9 @@ def near_field(pos, orders, offsets, neighbours, pair_orders, X, XT, A, x, out):
                     u[r, a] = x[j, a, r]
             # Into the frame where the pair axis is +z: X^T Z(-theta) X Z(phi).
             _zrot(u, ls, phi)
-            _xrot(u, ls, XT, tmp)
+            _xrot(u, ls, s0, s1, s2, s3, s4, s5, g, tmp)
             _zrot(u, ls, -theta)
-            _xrot(u, ls, X, tmp)
+            _xrot(u, ls, t0, t1, t2, t3, t4, t5, g, tmp)
             inv_d = 1.0 / d
             inv_pow[0] = 1.0
             for p in range(1, max(ls, lt) + 2):
@@ -132,9 +140,9 @@ def near_field(pos, orders, offsets, neighbours, pair_orders, X, XT, A, x, out):
                             accv += Am[jj, l] * ul[l]
                         v[r, _pos(jj, m)] = accv * inv_pow[jj + 1]
             # Back to the lab frame: Z(-phi) X^T Z(theta) X.
-            _xrot(v, lt, XT, tmp)
+            _xrot(v, lt, s0, s1, s2, s3, s4, s5, g, tmp)
             _zrot(v, lt, theta)
-            _xrot(v, lt, X, tmp)
+            _xrot(v, lt, t0, t1, t2, t3, t4, t5, g, tmp)
             _zrot(v, lt, -phi)
             for r in range(k):
                 for a in range(nt):

@@ -1,0 +1,98 @@
+"""Model-error control: automatic multipole orders, a posteriori estimate, near-contact warning."""
+
+import warnings
+
+import numpy as np
+import pytest
+
+from dipolearray import Material, Population, Scene, Sphere, solve
+from dipolearray.operators import MultipoleOperator, pair_model
+from dipolearray.solvers import NearContactWarning, closest_pair, near_contact_estimate
+
+
+def cluster(n=14, min_gap=0.02, seed=3):
+    """Spheres grown one by one onto a random earlier sphere at gaps from min_gap to 0.5."""
+    rng = np.random.default_rng(seed)
+    pos = [np.zeros(3)]
+    gaps = np.geomspace(min_gap, 0.5, n - 1)
+    rng.shuffle(gaps)
+    for g in gaps:
+        while True:
+            base = pos[rng.integers(len(pos))]
+            u = rng.standard_normal(3)
+            u /= np.linalg.norm(u)
+            cand = base + (2 + g) * u
+            if all(np.linalg.norm(cand - p) >= 2 + min_gap for p in pos):
+                pos.append(cand)
+                break
+    return np.array(pos)
+
+
+def quiet(*args, **kwargs):
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        return solve(*args, **kwargs)
+
+
+@pytest.mark.parametrize("accuracy", [1e-3, 1e-5])
+def test_automatic_orders_meet_the_requested_accuracy(accuracy):
+    s = Scene(cluster(), Population(Sphere(1.0), Material(10.0)), field=np.eye(3))
+    ref = quiet(s, rtol=1e-12, operator=MultipoleOperator(s, order=48, accuracy=1e-12))
+    op = MultipoleOperator(s, order="auto", accuracy=accuracy)
+    sol = quiet(s, rtol=1e-10, operator=op)
+    assert op.orders.max() < 48  # it did not simply take the largest order
+    scale = np.max(np.linalg.norm(ref.moments, axis=1))
+    err = np.max(np.linalg.norm(sol.moments - ref.moments, axis=1)) / scale
+    assert err <= 3 * accuracy
+    est = sol.extra["model_error"]
+    # The a posteriori estimate is of the right size: not below a tenth of the true error.
+    assert est["body_moment_error"] >= 0.1 * err
+    assert est["converged"]
+
+
+def test_point_dipole_model_error_is_estimated_and_recorded():
+    s = Scene(cluster(min_gap=0.02), Population(Sphere(1.0), Material(10.0)), field=np.eye(3))
+    with pytest.warns(NearContactWarning, match=r"spheres \d+ and \d+ are 0.02 radii apart"):
+        sol = solve(s, rtol=1e-10)
+    info = sol.extra["near_contact"]
+    assert info["gap_ratio"] == pytest.approx(0.02, rel=1e-9)
+    ref = quiet(s, rtol=1e-12, operator=MultipoleOperator(s, order=40, accuracy=1e-12))
+    i, j = info["pair"]
+    true_err = np.max(np.abs(sol.moments[[i, j]] - ref.moments[[i, j]])) / np.max(np.abs(ref.moments[[i, j]]))
+    # The two-sphere estimate is within a factor of three of the many-body error of that pair.
+    assert info["dipole_error"] / 3 <= true_err <= 3 * info["dipole_error"]
+
+
+def test_no_warning_for_well_separated_spheres():
+    pos = np.array([[0, 0, 0], [4.0, 0, 0], [0, 4.5, 0]])
+    s = Scene(pos, Population(Sphere(1.0), Material(10.0)))
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        sol = solve(s)
+    assert sol.extra["near_contact"]["dipole_error"] < 0.01
+
+
+def test_closest_pair_in_a_periodic_box_uses_the_minimum_image():
+    pos = np.array([[1.0, 5.0, 5.0], [8.5, 5.0, 5.0], [5.0, 5.0, 5.0]])
+    s = Scene(pos, Population(Sphere(1.0), Material(4.0)), boundary="periodic", box=[10.0, 10.0, 10.0])
+    info = closest_pair(s)
+    assert set(info["pair"]) == {0, 1}
+    assert info["gap"] == pytest.approx(0.5, abs=1e-12)  # through the boundary: 2.5 - 2
+
+
+def test_pair_model_orders_grow_as_the_gap_closes():
+    orders = [pair_model(g, (10.0, 10.0), 1.0, 1e-6)[0] for g in (3.0, 1.0, 0.3, 0.1)]
+    assert orders == sorted(orders) and orders[0] < orders[-1]
+    errs = [pair_model(g, (10.0, 10.0), 1.0, 1e-6)[1] for g in (3.0, 1.0, 0.3, 0.1, 0.01)]
+    assert np.all(np.diff(errs) > 0)
+    # Dipole error of two contrast-10 spheres at 0.01 radius: several percent (point-dipole
+    # model misses the pair's moment, as measured when the issue was filed: about 8 %).
+    assert 0.04 < errs[-1] < 0.12
+
+
+def test_estimate_for_touching_chain_names_contact():
+    pos = np.array([[0, 0, 2.0 * k] for k in range(5)], dtype=float)
+    s = Scene(pos, Population(Sphere(1.0), Material(50.0)))
+    info = near_contact_estimate(s)
+    assert info["gap_ratio"] == pytest.approx(0.0, abs=1e-12)
+    assert info["dipole_error"] > 0.1
