@@ -239,14 +239,22 @@ SECTIONS = {
             choices=("dipole", "multipole"),
         ),
         "multipole_order": Key(
-            "int", 0, "multipole order of every near pair; 0: chosen per pair for model_accuracy", minimum=0,
+            "int",
+            0,
+            "multipole order of every near pair; 0: chosen per pair for model_accuracy",
+            minimum=0,
             maximum=200,
         ),
         "model_accuracy": Key(
-            "float", 1e-6, "relative accuracy wanted on the dipole moments (multipole model)", minimum=1e-14,
+            "float",
+            1e-6,
+            "relative accuracy wanted on the dipole moments (multipole model)",
+            minimum=1e-14,
             maximum=0.5,
         ),
-        "max_order": Key("int", 40, "largest multipole order the automatic choice may use", minimum=1, maximum=200),
+        "max_order": Key(
+            "int", 40, "largest multipole order the automatic choice may use", minimum=1, maximum=200
+        ),
     },
     "sweep": {
         "parameter": Key(

@@ -39,7 +39,10 @@ class FieldEnhancement:
     isolated sphere this is the pole field ``(1 + 2 beta) E0`` (Jackson 1999,
     Classical Electrodynamics, 3rd ed., sec. 4.4). The point-dipole model takes each
     body's interior field as uniform, so in narrow gaps between bodies it
-    underestimates the true peak (multipoles fix that).
+    underestimates the true peak. For a multipole solution ``surface`` is instead the
+    largest host field sampled on each sphere's surface from its incident and induced
+    expansions (:meth:`MultipoleOperator.surface_host_field`), and ``interior`` is the
+    uniform (degree-1) part of the interior field.
     """
 
     local: np.ndarray
@@ -81,9 +84,9 @@ def field_enhancement(sol, operator=None) -> FieldEnhancement:
     FieldEnhancement
         Magnitudes relative to ``|E0|`` of each applied field.
     """
-    from ..operators import make_operator
+    from ._fields import solution_operator
 
-    op = operator if operator is not None else make_operator(sol.scene)
+    op = solution_operator(sol, operator)
     scene = sol.scene
     e0 = np.linalg.norm(np.asarray(scene.field, dtype=float), axis=1)[None, :]
     loc = local_field(sol, op)
@@ -91,4 +94,9 @@ def field_enhancement(sol, operator=None) -> FieldEnhancement:
     ratio = np.abs(np.asarray(scene.eps_inclusion) / scene.eps_host)
     jump = np.maximum(ratio, 1.0)[:, None]
     m_in = _magnitude(inner) / e0
-    return FieldEnhancement(local=_magnitude(loc) / e0, interior=m_in, surface=jump * m_in)
+    surface = jump * m_in
+    if sol.multipoles is not None and hasattr(op, "surface_host_field"):
+        # Multipole level: the host field sampled on each sphere's surface (gap hot spots).
+        sampled = op.surface_host_field(np.asarray(sol.multipoles)) / e0
+        surface = np.where(np.isnan(sampled), surface, sampled)
+    return FieldEnhancement(local=_magnitude(loc) / e0, interior=m_in, surface=surface)

@@ -12,6 +12,28 @@ def _applied(sol):
     return e0
 
 
+def solution_operator(sol, operator=None):
+    """The operator to evaluate ``sol`` with.
+
+    The one given, else the multipole operator the solve recorded, else a fresh
+    point-dipole operator.
+    """
+    if operator is not None:
+        return operator
+    if getattr(sol, "multipoles", None) is not None and "multipole_operator" in sol.extra:
+        return sol.extra["multipole_operator"]
+    return make_operator(sol.scene)
+
+
+def _coefficients(sol, op):
+    """What ``op`` applies to: the full multipole coefficients when it carries them."""
+    if getattr(op, "n_per_body", 3) != 3 and getattr(sol, "multipoles", None) is not None:
+        return np.asarray(sol.multipoles)
+    if hasattr(op, "orders") and getattr(sol, "multipoles", None) is not None:
+        return np.asarray(sol.multipoles)
+    return np.asarray(sol.moments)
+
+
 def local_field(sol, operator=None):
     """Exciting field at every body: the applied field plus all other bodies' fields.
 
@@ -25,10 +47,11 @@ def local_field(sol, operator=None):
     -------
     (N, 3, K) ndarray, reduced field
         ``E0 + sum_{j != i} T(r_i - r_j) p_j``; for converged moments
-        ``p_i = alpha_i`` times this.
+        ``p_i = alpha_i`` times this. For a multipole solution: the degree-1 part of the
+        incident field (all other bodies' multipoles included).
     """
-    op = operator if operator is not None else make_operator(sol.scene)
-    return _applied(sol)[None, :, :] + op.apply(np.asarray(sol.moments))
+    op = solution_operator(sol, operator)
+    return _applied(sol)[None, :, :] + op.apply(_coefficients(sol, op))[:, :3]
 
 
 def interior_field(sol, operator=None):
@@ -91,13 +114,29 @@ def field_at(sol, points, operator=None):
         Outside the bodies, ``E0 + sum_j T(x - r_j) p_j`` (for a periodic scene the
         sum runs over every periodic image, by Ewald summation with a conducting
         boundary). A point inside a body gets that body's uniform interior field (the
-        point-dipole model does not resolve the field inside a body any better).
+        point-dipole model does not resolve the field inside a body any better). For a
+        multipole solution the bodies' higher multipoles are added outside, and inside a
+        sphere its interior expansion is used.
     """
     pts = as_float_array(points, "points", (None, 3))
-    op = operator if operator is not None else make_operator(sol.scene)
-    out = _applied(sol)[None, :, :] + op.field_at(pts, np.asarray(sol.moments))
+    op = solution_operator(sol, operator)
+    coeffs = _coefficients(sol, op)
+    out = _applied(sol)[None, :, :] + op.field_at(pts, coeffs)
     owner = inside_body(sol.scene, pts)
-    if np.any(owner >= 0):
+    if (
+        np.any(owner >= 0)
+        and hasattr(op, "interior_field_at")
+        and coeffs.shape[1] >= 3
+        and sol.multipoles is not None
+    ):
+        out = out.astype(np.result_type(out, coeffs), copy=False)
+        V = op.incident(coeffs)
+        spherical = np.asarray(sol.scene.is_spherical, dtype=bool)
+        inner = interior_field(sol, op)
+        for b in np.unique(owner[owner >= 0]):
+            hit = owner == b
+            out[hit] = op.interior_field_at(b, pts[hit], coeffs, V) if spherical[b] else inner[b]
+    elif np.any(owner >= 0):
         inner = interior_field(sol, op)
         out = out.astype(inner.dtype, copy=False)
         hit = owner >= 0

@@ -84,7 +84,7 @@ def _gradient_contraction(u, V, order_u):
         ur = rotate_into(u, order_u, axis)
         vr = rotate_into(V, order_v, axis)
         f = 0.0
-        for l, a, b in degree_slices(order_u):
+        for l, _a, _b in degree_slices(order_u):
             for m in range(-l, l + 1):
                 coef = w[l + 1, abs(m)]
                 prod = ur[:, flat_index(l, m)] * (vr[:, flat_index(l + 1, m)].conj())
@@ -124,8 +124,9 @@ def multipole_forces(sol, operator=None):
     if op is None:
         from ..errors import InputError
 
-        raise InputError("forces: this solution carries no multipole operator (solve with backend='multipole')",
-                         "forces")  # fmt: skip
+        raise InputError(
+            "forces: this solution carries no multipole operator (solve with backend='multipole')", "forces"
+        )
     u = np.asarray(sol.multipoles)
     lmax = int(op.orders.max())
 

@@ -25,7 +25,7 @@ factorisation of a general rotation into z-rotations and one fixed quarter turn)
 
 from __future__ import annotations
 
-from functools import lru_cache
+from functools import cache, lru_cache
 
 import numpy as np
 from scipy.special import gammaln, sph_harm_y
@@ -102,11 +102,38 @@ def solid_harmonics(points, order: int, kind: str = "regular") -> np.ndarray:
     r = np.linalg.norm(pts, axis=1)
     safe = np.where(r > 0, r, 1.0)
     u = pts / safe[:, None]
+    ct = np.clip(u[:, 2], -1.0, 1.0)
+    st = np.sqrt(np.maximum(0.0, 1.0 - ct * ct))
+    phi = np.arctan2(u[:, 1], u[:, 0])
     out = np.empty((pts.shape[0], n_unknowns(order)))
-    for l, a, b in degree_slices(order):
-        c = real_harmonics(l, u)[:, _block_perm(l).argsort()] if l == 1 else real_harmonics(l, u)
-        rad = r**l if kind == "regular" else safe ** (-(l + 1))
-        out[:, a:b] = c * rad[:, None]
+    regular = kind == "regular"
+    rad = [r**l if regular else safe ** (-(l + 1)) for l in range(order + 1)]  # noqa: E741
+    # Schmidt semi-normalised Legendre functions sqrt((l-m)!/(l+m)!) P_l^m (no Condon-Shortley
+    # phase) by the standard stable recurrences in l at fixed m.
+    pmm = np.ones_like(ct)
+    r2 = np.sqrt(2.0)
+    for m in range(0, order + 1):
+        if m > 0:
+            pmm = pmm * st * np.sqrt((2 * m - 1) / (2 * m))
+        cm = np.cos(m * phi) * r2 if m else None
+        sm = np.sin(m * phi) * r2 if m else None
+        p_prev, p_cur = None, pmm
+        for l in range(max(m, 1), order + 1):  # noqa: E741
+            if l == m:
+                p_cur = pmm
+            elif l == m + 1:
+                p_prev, p_cur = p_cur, np.sqrt(2 * m + 1.0) * ct * p_cur
+            else:
+                p_prev, p_cur = (
+                    p_cur,
+                    ((2 * l - 1) * ct * p_cur - np.sqrt((l - 1.0) ** 2 - m * m) * p_prev)
+                    / np.sqrt(l * l - m * m * 1.0),
+                )
+            if m == 0:
+                out[:, flat_index(l, 0)] = p_cur * rad[l]
+            else:
+                out[:, flat_index(l, m)] = p_cur * cm * rad[l]
+                out[:, flat_index(l, -m)] = p_cur * sm * rad[l]
     return out
 
 
@@ -120,7 +147,7 @@ def _permute_degree(mat: np.ndarray, l: int) -> np.ndarray:  # noqa: E741
     return out
 
 
-@lru_cache(maxsize=None)
+@cache
 def quarter_turn(l: int) -> np.ndarray:  # noqa: E741
     """``X_l``: the degree-l representation of the quarter turn about +x (stored ordering).
 
@@ -287,3 +314,75 @@ def quarter_turn_blocks(order: int, transpose: bool = False):
         np.ascontiguousarray(a, dtype=np.float64 if k == 5 else np.int64)
         for k, a in enumerate((start, rptr, rows, cols, vptr, vals))
     )
+
+
+def _frame(direction):
+    """Rotation ``A`` with ``A direction = e_z`` (``Ry(-theta) Rz(-phi)``), as in :func:`rotate_into`."""
+    n = np.asarray(direction, dtype=float)
+    n = n / np.linalg.norm(n)
+    theta = np.arccos(np.clip(n[2], -1.0, 1.0))
+    phi = np.arctan2(n[1], n[0])
+    cz, sz = np.cos(phi), np.sin(phi)
+    ct, st = np.cos(theta), np.sin(theta)
+    Rz = np.array([[cz, sz, 0.0], [-sz, cz, 0.0], [0.0, 0.0, 1.0]])
+    Ry = np.array([[ct, 0.0, -st], [0.0, 1.0, 0.0], [st, 0.0, ct]])
+    return Ry @ Rz
+
+
+def expansion_field(points, coeffs, order, kind):
+    """Minus the gradient of ``sum u_lm S_lm(rho)`` at points ``rho`` (relative to the centre).
+
+    Parameters
+    ----------
+    points : (P, 3) ndarray of float
+        Positions relative to the expansion centre.
+    coeffs : (M, K) ndarray
+        Coefficients ``u`` in the flat body ordering, degrees 1..order.
+    order : int
+    kind : {"irregular", "regular"}
+        ``S = I`` (outgoing; points outside the body) or ``S = R`` (local; points within
+        the expansion's radius of convergence).
+
+    Returns
+    -------
+    (P, 3, K) ndarray
+        The field. Uses ``d/dz I_lm = -sqrt((l+1-m)(l+1+m)) I_(l+1)m`` and
+        ``d/dz R_lm = sqrt((l-m)(l+m)) R_(l-1)m`` (Racah normalisation) in frames whose z
+        axis is x, y and z in turn.
+    """
+    pts = np.asarray(points, dtype=float)
+    u = np.asarray(coeffs)
+    k = u.shape[1]
+    out = np.zeros((pts.shape[0], 3, k), dtype=np.result_type(u, float))
+    src, dst, coef, const = _derivative_map(order, kind)
+    for a, axis in enumerate(np.eye(3)):
+        ur = rotate_into(u[None], order, axis)[0] if a < 2 else u
+        rp = pts @ _frame(axis).T if a < 2 else pts
+        if kind == "irregular":
+            basis = solid_harmonics(rp, order + 1, "irregular")
+            out[:, a] = basis[:, dst] @ (coef[:, None] * ur[src])
+        else:
+            out[:, a] = -ur[const][None, :] * np.sqrt(1.0)
+            if order > 1:
+                basis = solid_harmonics(rp, order - 1, "regular")
+                out[:, a] -= basis[:, dst] @ (coef[:, None] * ur[src])
+    return out
+
+
+@lru_cache(maxsize=64)
+def _derivative_map(order, kind):
+    """Index maps of the z-derivative: ``coef * u[src]`` lands on basis function ``dst``."""
+    src, dst, coef = [], [], []
+    for l in range(1, order + 1):  # noqa: E741
+        if kind == "irregular":
+            for m in range(-l, l + 1):
+                src.append(flat_index(l, m))
+                dst.append(flat_index(l + 1, m))
+                coef.append(np.sqrt((l + 1 - m) * (l + 1 + m)))
+        elif l >= 2:
+            for m in range(-(l - 1), l):
+                src.append(flat_index(l, m))
+                dst.append(flat_index(l - 1, m))
+                coef.append(np.sqrt((l - m) * (l + m)))
+    # d/dz R_10 = 1 (R_10 = z): the constant term of a regular expansion's gradient.
+    return np.array(src, dtype=np.int64), np.array(dst, dtype=np.int64), np.array(coef), flat_index(1, 0)

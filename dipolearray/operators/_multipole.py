@@ -503,7 +503,9 @@ class MultipoleOperator(InteractionOperator):
         radii = np.asarray(scene.semi_axes)[:, 0]
         eps = np.asarray(scene.eps_inclusion)
         eh = scene.eps_host
-        high = np.zeros((n, m - 3), dtype=np.result_type(eps, complex(eh) if np.iscomplexobj(eh) else eh, float))
+        high = np.zeros(
+            (n, m - 3), dtype=np.result_type(eps, complex(eh) if np.iscomplexobj(eh) else eh, float)
+        )
         for l, a, b in degree_slices(int(self.orders.max())):
             if l == 1:
                 continue
@@ -523,8 +525,8 @@ class MultipoleOperator(InteractionOperator):
     def describe(self) -> str:
         """One line: orders and near pairs."""
         return (
-            f"multipole ({self.order_rule}, accuracy {self.accuracy:g}): orders up to {int(self.orders.max())}, "
-            f"{self.pairs.shape[0]} near pairs, dipole part {self._dipole.backend}"
+            f"multipole ({self.order_rule}, accuracy {self.accuracy:g}): orders up to "
+            f"{int(self.orders.max())}, {self.pairs.shape[0]} near pairs, dipole part {self._dipole.backend}"
         )
 
     def near_potential(self, x, extra_degrees=1):
@@ -612,8 +614,11 @@ class MultipoleOperator(InteractionOperator):
         return q
 
     def _unlisted_pairs(self, x, tau, chunk=200_000):
-        """Chunks ``(i, j, d, q_i, q_j)`` of pairs not in the near list that one body's
-        degree >= 2 multipoles could reach above ``tau`` (bound ``(l + 1) q_l / d^(l+2)``)."""
+        """Chunks ``(i, j, d, q_i, q_j)`` of unlisted pairs within a body's multipole reach.
+
+        Reach: where one body's degree >= 2 multipoles exceed ``tau`` by the bound
+        ``(l + 1) q_l / d^(l+2)``.
+        """
         from scipy.spatial import cKDTree
 
         n = self.n_bodies
@@ -721,3 +726,136 @@ class MultipoleOperator(InteractionOperator):
         new._setup_kernels()
         new.order_rule = self.order_rule + f", {new_i.size} pairs added from the solved multipoles"
         return new
+
+    # -- fields ---------------------------------------------------------------------
+    def incident(self, x):
+        """Regular coefficients ``V`` of the potential incident on each body (``-(F0 + apply(x))``).
+
+        Parameters
+        ----------
+        x : (N, M, K) ndarray
+            Solved coefficients (the applied fields are the scene's).
+
+        Returns
+        -------
+        (N, M, K) ndarray
+        """
+        e0 = np.asarray(self.scene.field, dtype=float).T
+        F = self.apply(x)
+        F = F.astype(np.result_type(F, float), copy=True)
+        F[:, :3] += e0[None]
+        return -F
+
+    def field_at(self, points, x):
+        """Field of the bodies at points outside them (no applied field added).
+
+        Every body contributes its dipole (through the dipole backend); bodies carrying
+        degrees above 1 add those within the distance where they exceed a hundredth of
+        the accuracy (same bound as :meth:`neglected_field`).
+
+        Parameters
+        ----------
+        points : (P, 3) ndarray of float
+        x : (N, M, K) ndarray
+
+        Returns
+        -------
+        (P, 3, K) ndarray
+        """
+        from scipy.spatial import cKDTree
+
+        from ._harmonics import expansion_field
+
+        pts = np.ascontiguousarray(points, dtype=np.float64)
+        x = np.asarray(x)
+        out = np.asarray(self._dipole.field_at(pts, np.ascontiguousarray(x[:, :3])))
+        out = out.astype(np.result_type(out, x), copy=True)
+        lmax = int(self.orders.max())
+        if lmax < 2 or pts.shape[0] == 0:
+            return out
+        q = self._degree_norms(x)
+        ls = np.arange(lmax + 1)
+        tau = 0.01 * self.accuracy
+        with np.errstate(divide="ignore"):
+            reach = np.where(q > 0, ((ls + 1) * q / tau) ** (1.0 / (ls + 2)), 0.0)
+        reach[:, :2] = 0.0
+        radius = reach.max(axis=1)
+        tree = cKDTree(pts)
+        high = x.copy()
+        high[:, :3] = 0.0
+        for j in np.nonzero(self.orders > 1)[0]:
+            idx = tree.query_ball_point(self._positions[j], radius[j])
+            if not idx:
+                continue
+            idx = np.asarray(idx)
+            Lj = int(self.orders[j])
+            out[idx] += expansion_field(
+                pts[idx] - self._positions[j], high[j, : n_unknowns(Lj)], Lj, "irregular"
+            )
+        return out
+
+    def interior_field_at(self, body, points, x, incident=None):
+        """Field inside sphere ``body`` at ``points``, from its interior expansion.
+
+        Inside a sphere the potential is ``sum C_lm R_lm(rho)`` with
+        ``C_lm = V_lm + u_lm / a^(2l+1)`` (continuity of the potential at ``r = a``;
+        ``V`` incident, ``u`` induced).
+
+        Returns
+        -------
+        (P, 3, K) ndarray
+        """
+        from ._harmonics import expansion_field
+
+        V = self.incident(x) if incident is None else incident
+        L = int(self.orders[body])
+        a = float(np.asarray(self.scene.semi_axes)[body, 0])
+        C = V[body, : n_unknowns(L)].copy()
+        for l, s0, s1 in degree_slices(L):
+            C[s0:s1] = C[s0:s1] + x[body, s0:s1] / a ** (2 * l + 1)
+        rel = np.asarray(points, dtype=float) - self._positions[body]
+        return expansion_field(rel, C, L, "regular")
+
+    def surface_host_field(self, x, samples=None):
+        """Largest host-side field magnitude on each sphere's surface, per right-hand side.
+
+        Just outside sphere i the potential is ``sum V_lm R_lm + sum u_lm I_lm`` (its
+        incident and own expansions, both to its order ``L_i``); it is sampled on a
+        Gauss-Legendre (in cos theta) by uniform (in phi) grid of ``L_i + 4`` by
+        ``2 L_i + 8`` points at radius ``a (1 + 1e-9)``, plus the directions of the
+        exciting field and of every near neighbour (where the peaks sit). Non-spherical bodies and spheres
+        of order 1 return NaN (use the uniform-interior model for them).
+
+        Returns
+        -------
+        (N, K) ndarray of float
+            ``max |E|`` over each surface (reduced field, applied field not divided out).
+        """
+        from ._harmonics import expansion_field
+
+        V = self.incident(x)
+        n, k = self.n_bodies, x.shape[2]
+        out = np.full((n, k), np.nan)
+        radii = np.asarray(self.scene.semi_axes)[:, 0]
+        spherical = np.asarray(self.scene.is_spherical, dtype=bool)
+        for i in np.nonzero(spherical & (self.orders > 1))[0]:
+            L = int(self.orders[i])
+            nt = L + 4 if samples is None else samples
+            ct, _w = np.polynomial.legendre.leggauss(nt)
+            ph = np.linspace(0.0, 2 * np.pi, 2 * nt, endpoint=False)
+            st = np.sqrt(1 - ct**2)
+            dirs = np.stack(
+                [np.outer(st, np.cos(ph)).ravel(), np.outer(st, np.sin(ph)).ravel(), np.repeat(ct, ph.size)],
+                axis=1,
+            )
+            # Where the peaks sit: along the exciting field and towards each near neighbour.
+            extra = [np.real(-V[i, :3, r]) for r in range(k)] + [np.imag(-V[i, :3, r]) for r in range(k)]
+            nb = self._neighbours[self._offsets[i] : self._offsets[i + 1]]
+            extra += list(self._positions[nb] - self._positions[i])
+            extra = np.array([e / np.linalg.norm(e) for e in extra if np.linalg.norm(e) > 0]).reshape(-1, 3)
+            dirs = np.concatenate([dirs, extra, -extra])
+            pts = dirs * radii[i] * (1 + 1e-9)
+            m = n_unknowns(L)
+            E = expansion_field(pts, V[i, :m], L, "regular") + expansion_field(pts, x[i, :m], L, "irregular")
+            out[i] = np.max(np.sqrt(np.sum(np.abs(E) ** 2, axis=1)), axis=0)
+        return out

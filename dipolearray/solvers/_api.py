@@ -10,7 +10,7 @@ from ._common import MomentSystem, column_norms
 from ._direct import direct
 from ._fixed_point import fixed_point
 from ._krylov import cocg, gmres
-from ._model_error import multipole_model_error, near_contact_check
+from ._model_error import closest_pair, multipole_model_error, near_contact_check
 from ._solution import Solution
 
 METHODS = ("auto", "fixed_point", "cocg", "gmres", "direct")
@@ -151,6 +151,9 @@ def solve(
         extra["orders"] = np.asarray(system.op.orders)
         extra["operator"] = system.op.describe()
         extra["multipole_operator"] = system.op
+        pair = closest_pair(scene)
+        if pair is not None:
+            extra["closest_gap_ratio"] = pair["gap_ratio"]
         if getattr(system.op, "check_error", False) and ok:
             extra["model_error"] = multipole_model_error(
                 scene, system.op, np.asarray(p), rtol=rtol, maxiter=maxiter

@@ -23,7 +23,6 @@ def cocg(system, *, rtol, atol, maxiter, x0, callback, max_restarts=3):
     van der Vorst, H. A. and Melissen, J. B. M. (1990). A Petrov-Galerkin type method
     for solving Ax = b, where A is symmetric complex. IEEE Trans. Magn. 26, 706.
     """
-    scene = system.scene
     half = system.alpha_sqrt
     cplx = (half.dtype.kind == "c") if hasattr(half, "apply") else np.iscomplexobj(half)
     work = np.complex128 if (cplx or system.dtype.kind == "c") else np.float64

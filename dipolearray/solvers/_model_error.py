@@ -139,8 +139,8 @@ def near_contact_check(scene, extra):
         warnings.warn(
             f"point-dipole model: spheres {i} and {j} are {info['gap_ratio']:.3g} radii apart (surface gap); "
             f"a two-sphere multipole solve puts the dipole-moment error of such a pair near "
-            f"{100 * info['dipole_error']:.2g} % (about {100 * info['total_moment_error']:.2g} % on the total "
-            "moment, from every sphere's nearest neighbour); local fields and forces there are "
+            f"{100 * info['dipole_error']:.2g} % (about {100 * info['total_moment_error']:.2g} % on the "
+            "total moment, from every sphere's nearest neighbour); local fields and forces there are "
             "underestimated; solve with backend='multipole' for near-contact scenes",
             NearContactWarning,
             stacklevel=3,
@@ -160,9 +160,10 @@ def multipole_model_error(scene, op, moments_full, *, rtol, maxiter, n_pairs=20)
         ``far_field_bound``: largest bound, over bodies, on the field (relative to the
         applied field) of the degree >= 2 multipoles of the pairs coupled only as point
         dipoles (:meth:`MultipoleOperator.neglected_field`; the relative error it causes
-        in a body's dipole is of the same size); ``total_moment_error``: largest relative change of the total dipole moment over
-        the applied fields; ``body_moment_error``: largest change of any body's dipole
-        relative to the largest body dipole; ``refined_pairs``; ``orders_refined`` (the
+        in a body's dipole is of the same size); ``total_moment_error``: largest
+        relative change of the total dipole moment over the applied fields;
+        ``body_moment_error``: largest change of any body's dipole relative to the
+        largest body dipole; ``refined_pairs``; ``orders_refined`` (the
         largest order in the refined solve); ``converged``.
     """
     from ._common import MomentSystem, column_norms

@@ -50,6 +50,18 @@ def _dataset(group, name, data, kind, scene):
     return ds
 
 
+def model_record(sol):
+    """``(model, model_error, closest_gap_ratio)`` of a solution (None where unknown)."""
+    if sol.multipoles is not None:
+        est = sol.extra.get("model_error")
+        err = None if est is None else max(est["body_moment_error"], est["far_field_bound"])
+        return "multipole", err, sol.extra.get("closest_gap_ratio")
+    near = sol.extra.get("near_contact")
+    if near is None:
+        return "dipole", None, None
+    return "dipole", near["dipole_error"], near["gap_ratio"]
+
+
 def save_result(path, solution, *, observables=(), config_text=None, overwrite=False):
     """Write a solution to an HDF5 file atomically.
 
@@ -143,6 +155,14 @@ def _write(tmp, sol, computed, config_text):
         _dataset(s, "moments", sol.moments, "moment", scene)
         _dataset(s, "residual_history", sol.residual_history, "1", scene)
         _dataset(s, "residual", sol.residual, "1", scene)
+        model, model_err, gap = model_record(sol)
+        s.attrs["model"] = model
+        s.attrs["model_error"] = _nan(model_err)
+        s.attrs["closest_gap"] = _nan(gap)
+        if sol.multipoles is not None:
+            orders = np.asarray(sol.extra.get("orders", np.ones(scene.n_bodies)), dtype=np.int64)
+            _dataset(s, "orders", orders, "1", scene)
+            _dataset(s, "multipoles", sol.multipoles, "1", scene)
         o = f.create_group("observables")
         for name, value in computed.items():
             kind = OBSERVABLES[name].unit if name in OBSERVABLES else "1"
@@ -252,9 +272,21 @@ def load_result(path):
                 wall_s=float(s.attrs["wall_s"]),
                 rtol=float(s.attrs["rtol"]),
                 atol=float(s.attrs["atol"]),
+                multipoles=s["multipoles"][...] if "multipoles" in s else None,
+                extra=_stored_extra(s),
             )
         except KeyError as exc:
             raise SchemaError(f"{path}: missing entry ({exc})") from None
+
+
+def _stored_extra(s):
+    extra = {"model": _str(s.attrs.get("model", "dipole"))}
+    err = s.attrs.get("model_error")
+    if err is not None and not math.isnan(float(err)):
+        extra["stored_model_error"] = float(err)
+    if "orders" in s:
+        extra["orders"] = s["orders"][...]
+    return extra
 
 
 def read_observables(path) -> dict:

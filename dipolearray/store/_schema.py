@@ -83,6 +83,52 @@ SCHEMA = (
     Entry("/solution@rtol", "attr", "float64", "", "1", "relative tolerance asked for"),
     Entry("/solution@atol", "attr", "float64", "", "1", "absolute tolerance asked for"),
     Entry(
+        "/solution@model",
+        "attr",
+        "str",
+        "",
+        "",
+        "'dipole' (point dipoles) or 'multipole' (spheres to order L)",
+    ),
+    Entry(
+        "/solution@model_error",
+        "attr",
+        "float64",
+        "",
+        "1",
+        "estimated relative model error of the dipole moments: dipole model, the closest pair's two-sphere "
+        "estimate; multipole model, the larger of the refined-solve change and the far-field bound (NaN if "
+        "none)",
+    ),
+    Entry(
+        "/solution@closest_gap",
+        "attr",
+        "float64",
+        "",
+        "1",
+        "smallest surface gap between spheres over the smaller radius (NaN if fewer than two spheres)",
+    ),
+    Entry(
+        "/solution/orders",
+        "dataset",
+        "int64",
+        "(N,)",
+        "1",
+        "multipole order carried by each body (multipole model only)",
+        required=False,
+    ),
+    Entry(
+        "/solution/multipoles",
+        "dataset",
+        "float64 or complex128",
+        "(N, M, K)",
+        "1",
+        "induced-potential coefficients, real Racah solid harmonics, reduced units: degree l in "
+        "4 pi eps0 eps_h a^(l+2) |E0| (a the reference length); the first three are the dipole (multipole "
+        "model only)",
+        required=False,
+    ),
+    Entry(
         "/solution/moments",
         "dataset",
         "float64 or complex128",

@@ -129,10 +129,14 @@ def test_apply_against_direct_evaluation_of_the_expansions():
     for i in range(5):
         for k in range(2):
             pot = sum(
-                solid_harmonics(POS[i] + rho - POS[j], 6, "irregular") @ x[j, :, k] for j in range(5) if j != i
+                solid_harmonics(POS[i] + rho - POS[j], 6, "irregular") @ x[j, :, k]
+                for j in range(5)
+                if j != i
             )
             pot0 = sum(
-                solid_harmonics((POS[i] - POS[j])[None], 6, "irregular") @ x[j, :, k] for j in range(5) if j != i
+                solid_harmonics((POS[i] - POS[j])[None], 6, "irregular") @ x[j, :, k]
+                for j in range(5)
+                if j != i
             )
             loc = -(solid_harmonics(rho, 6) @ y[i, :, k])  # F = -V
             np.testing.assert_allclose(loc, pot - pot0, rtol=1e-9, atol=1e-15)
@@ -188,7 +192,9 @@ def test_forces_are_the_energy_derivative():
 
     def run(p, L):
         s = _scene(p, field=np.array([[0.2, 0.3, 0.93]]))
-        return _quiet_solve(s, rtol=1e-13, operator=MultipoleOperator(s, order=L, accuracy=1e-14), method="cocg")
+        return _quiet_solve(
+            s, rtol=1e-13, operator=MultipoleOperator(s, order=L, accuracy=1e-14), method="cocg"
+        )
 
     for L in (1, 8):
         F = forces(run(pos, L))[:, :, 0]

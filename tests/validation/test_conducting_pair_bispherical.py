@@ -40,7 +40,11 @@ def image_series(d, a=1.0):
 def bispherical_series(d, a=1.0):
     mu = np.arccosh(d / (2 * a))
     n = np.arange(1, 200_000)
-    terms = (-1.0) ** (n + 1) * np.exp(3 * (mu - n * mu)) * ((1 - np.exp(-2 * mu)) / (1 - np.exp(-2 * n * mu))) ** 3
+    terms = (
+        (-1.0) ** (n + 1)
+        * np.exp(3 * (mu - n * mu))
+        * ((1 - np.exp(-2 * mu)) / (1 - np.exp(-2 * n * mu))) ** 3
+    )
     return 2 * a**3 * float(np.sum(terms))
 
 
