@@ -49,6 +49,18 @@ def print_summary(info, name=None):
         f"max relative residual {info['max_relative_residual']:.2e}, {info['wall_s']:.3g} s"
     )
     print(f"  why: {info['method_reason']}")
+    model = info.get("model")
+    if model:
+        err = model["model_error"]
+        gap = model["closest_gap_ratio"]
+        line = f"model: {model['model']}"
+        if model["model"] == "multipole":
+            line += f" (orders up to {model['max_order']}, mean {model['mean_order']:.3g})"
+        if err is not None:
+            line += f", estimated model error of the dipole moments {err:.2g}"
+        if gap is not None:
+            line += f", closest gap {gap:.3g} radii"
+        print(line)
     if "eps_eff_isotropic" in info:
         re, loss = info["eps_eff_isotropic"]
         what = "bulk, periodic box" if info.get("boundary") == "periodic" else "spherical sample"

@@ -246,6 +246,15 @@ def _result_blocks(path, figures_dir, prefix, resolution, progress=None):
         ("true final residual per field", ", ".join(f"{v:.3g}" for v in np.atleast_1d(sol.residual))),
         ("wall time", f"{sol.wall_s:.3g} s"),
     ]
+    from ._summary import model_summary
+
+    model = model_summary(sol)
+    rows.append(("physical model", model["model"]))
+    if model["model_error"] is not None:
+        rows.append(("estimated model error of the dipole moments", f"{model['model_error']:.2g}"))
+    if model["closest_gap_ratio"] is not None:
+        rows.append(("closest gap between spheres", f"{model['closest_gap_ratio']:.3g} radii"))
+    rows.append(("model note", model["note"]))
     b.append(("table", ("item", "value"), rows))
     return name, b, figs
 

@@ -76,6 +76,39 @@ def mixing_comparison(scene, phi):
     return {"rules": rules, "bounds": bounds, "note": note}
 
 
+def model_summary(sol):
+    """The physical model of a solve and its estimated model error, as a JSON-ready dict."""
+    from ..store import model_record
+
+    model, err, gap = model_record(sol)
+    if err is None and "stored_model_error" in sol.extra:
+        err = sol.extra["stored_model_error"]
+    out = {"model": model, "model_error": err, "closest_gap_ratio": gap}
+    if model == "multipole":
+        orders = np.asarray(sol.extra.get("orders", [1]))
+        out["max_order"] = int(orders.max())
+        out["mean_order"] = round(float(orders.mean()), 3)
+        if "operator" in sol.extra:
+            out["operator"] = sol.extra["operator"]
+        est = sol.extra.get("model_error")
+        if est:
+            out["estimate"] = {k: v for k, v in est.items() if k != "note"}
+        out["note"] = (
+            "model_error: change of the dipole moments when the closest pairs go to higher order, or the "
+            "bound on the far multipoles left to the point dipoles, whichever is larger"
+        )
+    else:
+        near = sol.extra.get("near_contact")
+        if near:
+            out["closest_pair"] = list(near["pair"])
+            out["total_moment_error"] = near["total_moment_error"]
+        out["note"] = (
+            "point dipoles; model_error: the closest pair's two-sphere multipole estimate "
+            "(use [solver] model = 'multipole' where it matters)"
+        )
+    return out
+
+
 def run_summary(sol, *, enhancement=None):
     """Summary numbers of a solve as a plain, JSON-ready dict.
 
@@ -114,6 +147,7 @@ def run_summary(sol, *, enhancement=None):
         "applied_field_V_per_m": scene.field_V_per_m,
         "length_unit_m": scene.length_unit_m,
     }
+    out["model"] = model_summary(sol)
     phi = volume_fraction(scene)
     if phi is not None:
         out["volume_fraction"] = round(phi, 6)

@@ -16,6 +16,8 @@ save_result
     Write a :class:`~dipolearray.solvers.Solution` (plus observables, config text).
 load_result
     Read it back as the same :class:`~dipolearray.solvers.Solution`.
+model_record
+    ``(model, model_error, closest_gap)`` of a solution, as stored.
 read_observables, read_config_text, describe
     Read the stored observables, the config text, or a text summary of a file.
 SCHEMA, SCHEMA_VERSION, schema_markdown
@@ -29,7 +31,7 @@ open_sweep, read_sweep, SweepStore
     (``/points/p0000/r0000/eps_tensor`` with the solve record as attributes).
 """
 
-from ._hdf5 import describe, load_result, read_config_text, read_observables, save_result
+from ._hdf5 import describe, load_result, model_record, read_config_text, read_observables, save_result
 from ._schema import (
     FORMAT_NAME,
     SCHEMA,
@@ -48,6 +50,7 @@ from ._sweep import SweepStore, open_sweep, read_sweep
 __all__ = [
     "save_result",
     "load_result",
+    "model_record",
     "read_observables",
     "read_config_text",
     "describe",
