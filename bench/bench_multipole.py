@@ -54,7 +54,8 @@ def main(quick=False, accuracy=1e-6):
 
     print(f"BLAS: {blas_kernel()}; threads: {da.operators.get_num_threads()}")
     print(
-        f"N = {n}, volume fraction 0.3, contrast 10, accuracy {accuracy:g}; closest pair {closest_pair(scene)}"
+        f"N = {n}, volume fraction 0.3, contrast 10, accuracy {accuracy:g}; "
+        f"closest pair {closest_pair(scene)}"
     )
     t = time.perf_counter()
     op = MultipoleOperator(scene, order="auto", accuracy=accuracy)
@@ -71,7 +72,8 @@ def main(quick=False, accuracy=1e-6):
     uniform._setup_kernels()
     t_uni = apply_time(uniform, repeat=1)
     print(
-        f"one apply (3 fields): automatic orders {t_auto:.2f} s; every near pair at {op.orders.max()}: {t_uni:.1f} s"
+        f"one apply (3 fields): automatic orders {t_auto:.2f} s; "
+        f"every near pair at {op.orders.max()}: {t_uni:.1f} s"
     )
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
