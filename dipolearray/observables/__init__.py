@@ -33,6 +33,9 @@ energy
     Electrostatic energy at fixed applied field, ``-1/2 sum p . E0``.
 forces, torques
     Force on every body, torque on every body.
+multipole_forces, maxwell_stress_forces
+    Forces of a multipole solution: exact energy derivative (what ``forces`` returns for
+    it) and the Maxwell stress integrated over each sphere, a second route.
 OBSERVABLES
     Registry of names, shapes, unit kinds and descriptions (store, config, CLI).
 """
@@ -40,7 +43,7 @@ OBSERVABLES
 from ._effective import EffectivePermittivity, effective_permittivity
 from ._enhancement import FieldEnhancement, field_enhancement
 from ._fields import field_at, field_slice, interior_field, local_field, slice_outlines, total_moment
-from ._mechanics import energy, forces, torques
+from ._mechanics import energy, forces, maxwell_stress_forces, multipole_forces, torques
 from ._registry import OBSERVABLES, Observable
 
 __all__ = [
@@ -56,6 +59,8 @@ __all__ = [
     "FieldEnhancement",
     "energy",
     "forces",
+    "multipole_forces",
+    "maxwell_stress_forces",
     "torques",
     "OBSERVABLES",
     "Observable",

@@ -242,3 +242,17 @@ def test_bad_input_names_the_key():
     box = Scene(POS + 5, Population(Sphere(1.0), Material(4.0)), boundary="periodic", box=[12.0, 12.0, 12.0])
     with pytest.raises(InputError, match="periodic"):
         MultipoleOperator(box)
+
+
+def test_maxwell_stress_and_energy_derivative_forces_agree():
+    from dipolearray.observables import maxwell_stress_forces
+
+    pos = np.array([[0, 0, 0], [0.4, 0.3, 2.1], [-1.9, 0.8, 0.9], [6.0, 0.0, 0.0]])
+    s = _scene(pos, field=np.array([[0.2, 0.3, 0.93], [1.0, 0.0, 0.0]]))
+    for L in (1, 4, 10):
+        sol = _quiet_solve(
+            s, rtol=1e-13, operator=MultipoleOperator(s, order=L, accuracy=1e-8), method="cocg"
+        )
+        a = forces(sol)
+        b = maxwell_stress_forces(sol)
+        np.testing.assert_allclose(b, a, atol=1e-10 * np.abs(a).max())
