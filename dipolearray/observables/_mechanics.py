@@ -189,7 +189,7 @@ def maxwell_stress_forces(sol, operator=None, samples=None):
     a fluid dielectric).
     """
     from ..errors import InputError
-    from ..operators._harmonics import expansion_field, n_unknowns
+    from ..operators._harmonics import expansion_field, n_unknowns, sphere_grid
 
     op = operator if operator is not None else sol.extra.get("multipole_operator")
     if op is None:
@@ -207,15 +207,8 @@ def maxwell_stress_forces(sol, operator=None, samples=None):
     out = np.zeros((n, 3, k))
     for i in range(n):
         L = int(op.orders[i])
-        nt = L + 3 if samples is None else int(samples)
-        ct, w = np.polynomial.legendre.leggauss(nt)
-        ph = np.linspace(0.0, 2 * np.pi, 2 * nt, endpoint=False)
-        st = np.sqrt(1 - ct**2)
-        nrm = np.stack(
-            [np.outer(st, np.cos(ph)).ravel(), np.outer(st, np.sin(ph)).ravel(), np.repeat(ct, ph.size)],
-            axis=1,
-        )
-        wts = np.repeat(w, ph.size) * (2 * np.pi / ph.size) * radii[i] ** 2
+        nrm, w = sphere_grid(L + 3 if samples is None else int(samples))
+        wts = w * radii[i] ** 2
         pts = nrm * radii[i] * (1 + 1e-12)
         E = expansion_field(pts, V[i, : n_unknowns(L + 1)], L + 1, "regular")
         E = E + expansion_field(pts, u[i, : n_unknowns(L)], L, "irregular")

@@ -386,3 +386,23 @@ def _derivative_map(order, kind):
                 coef.append(np.sqrt((l - m) * (l + m)))
     # d/dz R_10 = 1 (R_10 = z): the constant term of a regular expansion's gradient.
     return np.array(src, dtype=np.int64), np.array(dst, dtype=np.int64), np.array(coef), flat_index(1, 0)
+
+
+def sphere_grid(n_theta: int):
+    """Product quadrature on the unit sphere: Gauss-Legendre in cos theta, uniform in phi.
+
+    Returns
+    -------
+    directions : (P, 3) ndarray
+        ``P = 2 n_theta^2`` unit vectors.
+    weights : (P,) ndarray
+        Solid-angle weights (sum ``4 pi``); exact for spherical harmonics of degree
+        below ``2 n_theta``.
+    """
+    ct, w = np.polynomial.legendre.leggauss(int(n_theta))
+    ph = np.linspace(0.0, 2 * np.pi, 2 * int(n_theta), endpoint=False)
+    st = np.sqrt(1 - ct**2)
+    dirs = np.stack(
+        [np.outer(st, np.cos(ph)).ravel(), np.outer(st, np.sin(ph)).ravel(), np.repeat(ct, ph.size)], 1
+    )
+    return dirs, np.repeat(w, ph.size) * (2 * np.pi / ph.size)

@@ -831,7 +831,7 @@ class MultipoleOperator(InteractionOperator):
         (N, K) ndarray of float
             ``max |E|`` over each surface (reduced field, applied field not divided out).
         """
-        from ._harmonics import expansion_field
+        from ._harmonics import expansion_field, sphere_grid
 
         V = self.incident(x)
         n, k = self.n_bodies, x.shape[2]
@@ -840,14 +840,7 @@ class MultipoleOperator(InteractionOperator):
         spherical = np.asarray(self.scene.is_spherical, dtype=bool)
         for i in np.nonzero(spherical & (self.orders > 1))[0]:
             L = int(self.orders[i])
-            nt = L + 4 if samples is None else samples
-            ct, _w = np.polynomial.legendre.leggauss(nt)
-            ph = np.linspace(0.0, 2 * np.pi, 2 * nt, endpoint=False)
-            st = np.sqrt(1 - ct**2)
-            dirs = np.stack(
-                [np.outer(st, np.cos(ph)).ravel(), np.outer(st, np.sin(ph)).ravel(), np.repeat(ct, ph.size)],
-                axis=1,
-            )
+            dirs, _w = sphere_grid(L + 4 if samples is None else samples)
             # Where the peaks sit: along the exciting field and towards each near neighbour.
             extra = [np.real(-V[i, :3, r]) for r in range(k)] + [np.imag(-V[i, :3, r]) for r in range(k)]
             nb = self._neighbours[self._offsets[i] : self._offsets[i + 1]]
