@@ -34,6 +34,7 @@ def solve(
     backend: str = "auto",
     operator=None,
     backend_options=None,
+    model_check: bool = True,
 ) -> Solution:
     """Find the self-consistent moments of every body of ``scene``.
 
@@ -62,6 +63,10 @@ def solve(
     backend_options : dict, optional
         Settings passed to the backend (for ``"multipole"``: ``order``, ``accuracy``,
         ``max_order``; see :class:`dipolearray.operators.MultipoleOperator`).
+    model_check : bool
+        Point-dipole solves of spheres: estimate the model error of the closest pairs
+        (``extra["near_contact"]``, a :class:`NearContactWarning` when large). Off only
+        for repeated solves of one geometry.
 
     Returns
     -------
@@ -158,7 +163,7 @@ def solve(
             extra["model_error"] = multipole_model_error(
                 scene, system.op, np.asarray(p), rtol=rtol, maxiter=maxiter
             )
-    else:
+    elif model_check:
         near_contact_check(scene, extra)
     return Solution(
         scene=scene,
