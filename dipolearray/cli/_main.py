@@ -59,8 +59,15 @@ def main(argv=None) -> int:
     if not getattr(args, "command", None):
         parser.print_help()
         return EXIT_BAD_INPUT
+    import warnings
+
+    def _one_line(message, category, filename, lineno, file=None, line=None):
+        print(f"warning: {message}", file=sys.stderr)
+
     try:
-        return int(args._module.run(args))
+        with warnings.catch_warnings():
+            warnings.showwarning = _one_line
+            return int(args._module.run(args))
     except InputError as exc:
         code, msg = EXIT_BAD_INPUT, f"error: {exc}"
     except ConvergenceError as exc:

@@ -82,7 +82,8 @@ def print_summary(info, name=None):
     if info.get("peak_host_field_V_per_m"):
         print(
             f"  peak host field about {info['peak_host_field_V_per_m'] / 1e6:.4g} kV/mm at "
-            f"{info['applied_field_V_per_m'] / 1e6:.4g} kV/mm applied (point-dipole estimate)"
+            f"{info['applied_field_V_per_m'] / 1e6:.4g} kV/mm applied "
+            f"({'multipole' if (model or {}).get('model') == 'multipole' else 'point-dipole'} estimate)"
         )
     for note in info["breakdown_notes"]:
         print(note)

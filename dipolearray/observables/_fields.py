@@ -20,9 +20,34 @@ def solution_operator(sol, operator=None):
     """
     if operator is not None:
         return operator
-    if getattr(sol, "multipoles", None) is not None and "multipole_operator" in sol.extra:
-        return sol.extra["multipole_operator"]
+    if getattr(sol, "multipoles", None) is not None:
+        if "multipole_operator" in sol.extra:
+            return sol.extra["multipole_operator"]
+        if "orders" in sol.extra and sol.scene.boundary == "open":
+            return _rebuilt_multipole_operator(sol)
     return make_operator(sol.scene)
+
+
+def _rebuilt_multipole_operator(sol):
+    """A multipole operator for a solution read from a file (which stores orders, not pairs).
+
+    Near pairs are chosen again by the two-sphere model at accuracy 1e-6; each couples
+    to the larger of its bodies' stored orders. Pairs the original solve added from its
+    solved multipoles are not recovered, so fields evaluated from a loaded result can
+    differ from the original by about the model error.
+    """
+    from ..operators import MultipoleOperator
+
+    orders = np.asarray(sol.extra["orders"], dtype=np.int64)
+    op = MultipoleOperator(
+        sol.scene, order=int(orders.max()), accuracy=1e-6, check_error=False, adaptive=False
+    )
+    op.orders = orders
+    if op.pairs.shape[0]:
+        op.pair_orders = np.maximum(orders[op.pairs[:, 0]], orders[op.pairs[:, 1]])
+    op.n_per_body = int(np.asarray(sol.multipoles).shape[1])
+    op._setup_kernels()
+    return op
 
 
 def _coefficients(sol, op):

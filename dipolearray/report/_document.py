@@ -226,8 +226,12 @@ def _result_blocks(path, figures_dir, prefix, resolution, progress=None):
                 "p",
                 f"In SI at the applied {scene.field_V_per_m / 1e6:.4g} kV/mm: peak host surface field about "
                 f"{info['peak_host_field_V_per_m'] / 1e6:.4g} kV/mm, peak local field "
-                f"{info['peak_local_field_V_per_m'] / 1e6:.4g} kV/mm (point-dipole estimates, low in "
-                "narrow gaps).",
+                f"{info['peak_local_field_V_per_m'] / 1e6:.4g} kV/mm "
+                + (
+                    "(multipole estimates, to the model error reported below)."
+                    if sol.multipoles is not None
+                    else "(point-dipole estimates, low in narrow gaps)."
+                ),
             )
         )
     b.append(("h2", "Figures"))

@@ -68,8 +68,13 @@ def run_figures(sol, folder, *, enhancement=None, resolution=161, prefix="", pro
             "field_slice",
             "Field magnitude on a slice",
             f"|E|/|E0| on the plane {normal} = {offset:.3g} (reduced length) for the field along {along}; "
-            "outlines where the bodies cut the plane; inside a body the uniform interior field. "
-            "The point-dipole model underestimates the field in narrow gaps."
+            "outlines where the bodies cut the plane. "
+            + (
+                "Multipole solution: higher multipoles outside, each sphere's interior expansion inside."
+                if sol.multipoles is not None
+                else "Inside a body the uniform interior field; the point-dipole model underestimates the "
+                "field in narrow gaps."
+            )
             + (
                 " Periodic box: one cell, every image summed by Ewald."
                 if scene.boundary == "periodic"

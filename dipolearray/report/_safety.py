@@ -16,8 +16,9 @@ TYPICAL_BREAKDOWN_KV_PER_MM = {
 }
 
 CAUTION = (
-    "Caution: this tool estimates fields with a point-dipole model, which underestimates the "
-    "field in narrow gaps between bodies. It does not certify insulation, creepage or breakdown "
+    "Caution: this tool estimates fields with a model: point dipoles underestimate the field in "
+    "narrow gaps between bodies, and the multipole model resolves it only to its reported model "
+    "error. It does not certify insulation, creepage or breakdown "
     "strength. Electrorheological and field-grading devices run at kilovolts per millimetre; design, "
     "build and test high-voltage equipment under your local electrical-safety codes and with "
     "qualified, licensed practice."

@@ -168,7 +168,8 @@ def near_contact_check(scene, extra):
             f"a two-sphere multipole solve puts the dipole-moment error of such a pair near "
             f"{100 * info['dipole_error']:.2g} % (about {100 * info['total_moment_error']:.2g} % on the "
             "total moment, from every sphere's nearest neighbour); local fields and forces there are "
-            "underestimated; solve with backend='multipole' for near-contact scenes",
+            "underestimated; use the multipole model for near-contact scenes (backend='multipole', or "
+            "[solver] model = 'multipole' in a config)",
             NearContactWarning,
             stacklevel=3,
         )

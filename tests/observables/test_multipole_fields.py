@@ -101,3 +101,16 @@ def test_exterior_field_against_finite_differences_of_the_potential(order):
     fd = np.stack([-(potential(pts + h * e) - potential(pts - h * e)) / (2 * h) for e in np.eye(3)], axis=1)
     got = field_at(sol, pts)[:, :, 0] - sol.scene.field[0][None, :]
     np.testing.assert_allclose(got, fd, atol=1e-7)
+
+
+def test_loaded_multipole_result_evaluates_at_multipole_level(tmp_path):
+    from dipolearray import load_result, save_result
+
+    sol = pair(0.1, order=12)
+    path = tmp_path / "pair.h5"
+    save_result(path, sol, observables=["surface_field"])
+    back = load_result(path)
+    np.testing.assert_array_equal(back.multipoles, sol.multipoles)
+    pts = np.array([[0.0, 0.0, 1.05], [0.3, 0.2, 3.5]])
+    np.testing.assert_allclose(field_at(back, pts), field_at(sol, pts), rtol=1e-9)
+    np.testing.assert_allclose(field_enhancement(back).surface, field_enhancement(sol).surface, rtol=1e-9)
