@@ -239,10 +239,12 @@ def model_operator(cfg, scene):
     s = cfg.solver
     if s["model"] != "multipole":
         return None
-    from ..operators import MultipoleOperator
+    from ..operators import make_operator
 
     order = "auto" if s["multipole_order"] == 0 else int(s["multipole_order"])
-    return MultipoleOperator(scene, order=order, accuracy=s["model_accuracy"], max_order=s["max_order"])
+    return make_operator(
+        scene, "multipole", order=order, accuracy=s["model_accuracy"], max_order=s["max_order"]
+    )
 
 
 def run_config(

@@ -235,7 +235,7 @@ SECTIONS = {
             "str",
             "dipole",
             "physical model: 'dipole' (point dipoles; warns near contact) or 'multipole' (spheres carry "
-            "induced multipoles where gaps need them; open boundary)",
+            "induced multipoles where gaps need them; periodic boxes by lattice sums up to order 30)",
             choices=("dipole", "multipole"),
         ),
         "multipole_order": Key(
@@ -640,11 +640,15 @@ def parse_config(text: str, source: str = "<config>", overrides=None, *, check_s
         raise ConfigError(f"frequency.max: must exceed frequency.min ({fr['min']:g} Hz)", "frequency.max")
     if sections["solver"]["rtol"] == 0 and sections["solver"]["atol"] == 0:
         raise ConfigError("solver.rtol: rtol and atol cannot both be zero", "solver.rtol")
-    if sections["solver"]["model"] == "multipole" and arr["region"] == "periodic":
+    if (
+        sections["solver"]["model"] == "multipole"
+        and arr["region"] == "periodic"
+        and sections["solver"]["multipole_order"] > 30
+    ):
         raise ConfigError(
-            "solver.model: 'multipole' needs an open sample (arrangement.region 'sphere' or 'cube'); "
-            "periodic multipoles are not available yet",
-            "solver.model",
+            f"solver.multipole_order: periodic multipoles go up to order 30, got "
+            f"{sections['solver']['multipole_order']}",
+            "solver.multipole_order",
         )
     sweep = None
     if "sweep" in raw:

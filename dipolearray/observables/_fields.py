@@ -36,11 +36,11 @@ def _rebuilt_multipole_operator(sol):
     solved multipoles are not recovered, so fields evaluated from a loaded result can
     differ from the original by about the model error.
     """
-    from ..operators import MultipoleOperator
+    from ..operators import make_operator
 
     orders = np.asarray(sol.extra["orders"], dtype=np.int64)
-    op = MultipoleOperator(
-        sol.scene, order=int(orders.max()), accuracy=1e-6, check_error=False, adaptive=False
+    op = make_operator(
+        sol.scene, "multipole", order=int(orders.max()), accuracy=1e-6, check_error=False, adaptive=False
     )
     op.orders = orders
     if op.pairs.shape[0]:

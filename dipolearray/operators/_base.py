@@ -70,6 +70,12 @@ def make_operator(scene, backend: str = "auto", **options) -> InteractionOperato
             f"{acc:g}): direct O(N^2) kernel, exact"
         )
         return op
+    if backend == "multipole" and scene.boundary == "periodic":
+        from ._lattice import LatticeMultipoleOperator
+
+        op = LatticeMultipoleOperator(scene, **options)
+        op.reason = "requested (periodic: lattice sums)"
+        return op
     if backend == "direct" and scene.boundary != "open":
         raise InputError("backend: 'direct' sums an open boundary; periodic scenes use 'ewald'", "backend")
     op = _BACKENDS[backend](scene, **options)

@@ -346,36 +346,65 @@ class MultipoleOperator(InteractionOperator):
         adaptive=True,
     ):
         super().__init__(scene)
+        if scene.boundary != "open":
+            raise InputError(
+                "backend: MultipoleOperator sums an open boundary; for a periodic scene "
+                "make_operator(scene, 'multipole') builds the lattice-sum operator",
+                "backend",
+            )
+        self._positions = np.ascontiguousarray(scene.positions, dtype=np.float64)
+        self._configure(order, accuracy, max_order, check_error, adaptive, 200)
+        self._setup_kernels()
+        dip_opts = {"accuracy": 0.1 * self.accuracy} if dipole_backend in ("auto", "fmm") else {}
+        self._dipole = make_operator(scene, dipole_backend, **dip_opts)
+
+    def _configure(self, order, accuracy, max_order, check_error, adaptive, order_limit):
+        """Validate the settings, choose the near pairs and the orders."""
         self.check_error = bool(check_error)
         self.adaptive = bool(adaptive)
         self.n_added = 0
-        if scene.boundary != "open":
-            raise InputError(
-                "backend: 'multipole' sums an open boundary (periodic multipoles are not available yet)",
-                "backend",
-            )
         self.accuracy = as_positive(accuracy, "accuracy")
         if not 0 < self.accuracy < 1:
             raise InputError(f"accuracy: expected 0 < accuracy < 1, got {accuracy}", "accuracy")
-        self.max_order = as_int(max_order, "max_order", minimum=1, maximum=200)
+        self.max_order = as_int(max_order, "max_order", minimum=1, maximum=order_limit)
         if isinstance(order, str):
             if order != "auto":
                 raise InputError(f"order: expected 'auto' or an integer >= 1, got {order!r}", "order")
             fixed = None
         else:
-            fixed = as_int(order, "order", minimum=1, maximum=200)
+            fixed = as_int(order, "order", minimum=1, maximum=order_limit)
         self.order_rule = "auto" if fixed is None else f"uniform {fixed}"
-        self._positions = np.ascontiguousarray(scene.positions, dtype=np.float64)
         self._select_pairs(fixed)
         self.n_per_body = n_unknowns(int(self.orders.max()))
-        self._setup_kernels()
-        dip_opts = {"accuracy": 0.1 * self.accuracy} if dipole_backend in ("auto", "fmm") else {}
-        self._dipole = make_operator(scene, dipole_backend, **dip_opts)
 
     # -- geometry -------------------------------------------------------------------
-    def _select_pairs(self, fixed):
+    def _candidate_pairs(self, radius):
+        """Pairs ``i < j`` closer than ``radius`` (centre to centre) and their distances."""
         from scipy.spatial import cKDTree
 
+        if self.n_bodies > 1:
+            cand = cKDTree(self._positions).query_pairs(radius, output_type="ndarray")
+        else:
+            cand = np.zeros((0, 2), dtype=np.int64)
+        cand = cand.reshape(-1, 2).astype(np.int64)
+        i, j = cand[:, 0], cand[:, 1]
+        return i, j, np.linalg.norm(self._positions[i] - self._positions[j], axis=1)
+
+    def _tree(self):
+        """k-d tree of the body centres (periodic where the scene is)."""
+        from scipy.spatial import cKDTree
+
+        return cKDTree(self._positions)
+
+    def _pair_distance(self, i, j):
+        """Centre distances of pairs ``(i, j)``."""
+        return np.linalg.norm(self._positions[i] - self._positions[j], axis=1)
+
+    def _min_image(self, dv):
+        """Separation vectors as the geometry sees them (identity in an open scene)."""
+        return dv
+
+    def _select_pairs(self, fixed):
         scene = self.scene
         n = scene.n_bodies
         spherical = np.asarray(scene.is_spherical, dtype=bool)
@@ -400,19 +429,13 @@ class MultipoleOperator(InteractionOperator):
                 cutmat[a, b] = dipole_cutoff_gap(pair_key(a, b), eh, acc, self.max_order)
         rmax = float(bound.max()) if n else 0.0
         gmax = float(cutmat.max())
-        if n > 1:
-            cand = cKDTree(self._positions).query_pairs(2.0 * rmax + gmax * rmax, output_type="ndarray")
-        else:
-            cand = np.zeros((0, 2), dtype=np.int64)
-        cand = cand.reshape(-1, 2)
-        i, j = cand[:, 0], cand[:, 1]
-        d = np.linalg.norm(self._positions[i] - self._positions[j], axis=1)
+        i, j, d = self._candidate_pairs(2.0 * rmax + gmax * rmax)
         gap = d - bound[i] - bound[j]
         rmin = np.minimum(bound[i], bound[j])
         self.closest_gap = float(gap.min()) if gap.size else float("inf")
         rel = gap / np.where(rmin > 0, rmin, 1.0)
         keep = rel < cutmat[pops[i], pops[j]]
-        i, j, rel, rmin = i[keep], j[keep], rel[keep], rmin[keep]
+        i, j, d, rel, rmin = i[keep], j[keep], d[keep], rel[keep], rmin[keep]
         both = spherical[i] & spherical[j]
         bins = np.floor(np.log10(np.maximum(rel, 1e-9)) * _BINS_PER_DECADE).astype(np.int64)
         rows = np.stack([pops[i], pops[j], bins], axis=1)
@@ -452,7 +475,7 @@ class MultipoleOperator(InteractionOperator):
             # amplifies them): couple each pair up to the larger body order, as far as the
             # geometric factor (l + 2) (a_max / d)^(l + 1) stays above the accuracy.
             ii, jj = i[near], j[near]
-            dist = np.linalg.norm(self._positions[ii] - self._positions[jj], axis=1)
+            dist = d[near]
             ratio = np.maximum(bound[ii], bound[jj]) / dist
             geo = _geometric_order(ratio, acc, cap)
             po = np.maximum(po, np.minimum(np.maximum(body[ii], body[jj]), geo))
@@ -583,7 +606,7 @@ class MultipoleOperator(InteractionOperator):
         if self.pairs.shape[0] == 0:
             return new
         i, j = self.pairs[:, 0], self.pairs[:, 1]
-        d = np.linalg.norm(self._positions[i] - self._positions[j], axis=1)
+        d = self._pair_distance(i, j)
         bound = np.asarray(self.scene.bounding_radii, dtype=float)
         ratio = (d - bound[i] - bound[j]) / np.minimum(bound[i], bound[j])
         pick = np.argsort(ratio, kind="stable")[: int(n_pairs)]
@@ -619,8 +642,6 @@ class MultipoleOperator(InteractionOperator):
         Reach: where one body's degree >= 2 multipoles exceed ``tau`` by the bound
         ``(l + 1) q_l / d^(l+2)``.
         """
-        from scipy.spatial import cKDTree
-
         n = self.n_bodies
         q = self._degree_norms(x)
         ls = np.arange(q.shape[1])
@@ -632,7 +653,7 @@ class MultipoleOperator(InteractionOperator):
         strong = np.nonzero(radius > 2.0 * bound)[0]
         if strong.size == 0:
             return
-        tree = cKDTree(self._positions)
+        tree = self._tree()
         lists = tree.query_ball_point(self._positions[strong], radius[strong])
         cj = np.repeat(strong, [len(v) for v in lists])
         ci = np.concatenate([np.asarray(v, dtype=np.int64) for v in lists])
@@ -644,7 +665,7 @@ class MultipoleOperator(InteractionOperator):
         lo, hi = code // n, code % n
         for c0 in range(0, lo.size, chunk):
             a_, b_ = lo[c0 : c0 + chunk], hi[c0 : c0 + chunk]
-            d = np.linalg.norm(self._positions[a_] - self._positions[b_], axis=1)
+            d = self._pair_distance(a_, b_)
             yield a_, b_, d, q[a_], q[b_]
 
     def neglected_field(self, x, field_scale=1.0):
@@ -844,7 +865,7 @@ class MultipoleOperator(InteractionOperator):
             # Where the peaks sit: along the exciting field and towards each near neighbour.
             extra = [np.real(-V[i, :3, r]) for r in range(k)] + [np.imag(-V[i, :3, r]) for r in range(k)]
             nb = self._neighbours[self._offsets[i] : self._offsets[i + 1]]
-            extra += list(self._positions[nb] - self._positions[i])
+            extra += list(self._min_image(self._positions[nb] - self._positions[i]))
             extra = np.array([e / np.linalg.norm(e) for e in extra if np.linalg.norm(e) > 0]).reshape(-1, 3)
             dirs = np.concatenate([dirs, extra, -extra])
             pts = dirs * radii[i] * (1 + 1e-9)
