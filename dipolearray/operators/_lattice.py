@@ -344,6 +344,14 @@ class LatticeMultipoleOperator(MultipoleOperator):
             ls = np.minimum(self.orders[j], self.pair_orders)
             keep = (np.maximum(lt, ls) >= 2) & (np.minimum(lt, ls) >= 1)
             i, j, lt, ls = i[keep], j[keep], lt[keep], ls[keep]
+            size = int(np.sum(lt * (lt + 2) * ls * (ls + 2) * np.where(i == j, 1, 2)))
+            if size > MAX_COUPLING_ENTRIES:
+                raise InputError(
+                    f"backend: periodic multipoles would store {size:.3g} coupling numbers for "
+                    f"{i.size} pairs (limit {MAX_COUPLING_ENTRIES:.1g}, about 12 bytes each); use a smaller "
+                    "cell, a looser accuracy, a lower max_order, or the dipole model",
+                    "backend",
+                )
             disp = self._positions[i] - self._positions[j]
             sign_f = np.concatenate([np.full(2 * l + 1, (-1.0) ** l) for l in range(1, 2 * lmax + 1)])
             F = n_unknowns(2 * lmax)
@@ -487,3 +495,4 @@ class LatticeMultipoleOperator(MultipoleOperator):
 
 
 _REFINE_CAP = 30
+MAX_COUPLING_ENTRIES = 4e8

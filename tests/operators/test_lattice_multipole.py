@@ -133,3 +133,11 @@ def test_bad_input_names_the_key():
         make_operator(s, "multipole", dipole_backend="direct")
     with pytest.raises(InputError, match="forces"):
         make_operator(s, "multipole", order=3).near_potential(np.zeros((2, 15, 1)))
+
+
+def test_oversized_coupling_is_refused_before_it_is_built(monkeypatch):
+    import dipolearray.operators._lattice as lat
+
+    monkeypatch.setattr(lat, "MAX_COUPLING_ENTRIES", 100)
+    with pytest.raises(InputError, match="coupling numbers"):
+        make_operator(_cell(n=3), "multipole", order=4)
