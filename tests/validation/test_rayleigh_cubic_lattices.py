@@ -26,6 +26,8 @@ import pytest
 import dipolearray as da
 from dipolearray.arrange import lattice
 
+pytestmark = pytest.mark.slow
+
 B_FROM_MEMORY = {"sc": 1.305, "bcc": 0.129, "fcc": 0.0753}
 CELLS = {"sc": 2, "bcc": 1, "fcc": 1}  # the smallest periodic box of edge >= 4 radii
 
