@@ -256,3 +256,26 @@ def test_maxwell_stress_and_energy_derivative_forces_agree():
         a = forces(sol)
         b = maxwell_stress_forces(sol)
         np.testing.assert_allclose(b, a, atol=1e-10 * np.abs(a).max())
+
+
+@pytest.mark.parametrize("complex_input", [False, True])
+def test_low_order_tensor_kernel_matches_the_rotation_kernel(monkeypatch, complex_input):
+    # Pairs up to LOW_ORDER go through harmonics and the fitted translation tensor; the
+    # same operator with every pair on the rotate-translate-rotate kernel is the reference.
+    import dipolearray.operators._multipole as mp
+
+    rng = np.random.default_rng(7)
+    pos = np.concatenate([POS, POS[:3] + [7.0, 0.0, 0.0], [[3.0, -3.5, 0.0]]])
+    s = _scene(pos)
+    op = MultipoleOperator(s, order="auto", accuracy=1e-9, check_error=False)
+    op.pair_orders = np.minimum(op.pair_orders, rng.integers(1, 9, op.pair_orders.size))
+    op._setup_kernels()
+    assert op._lo_neighbours.size and op._hi_neighbours.size  # both kernels run
+    x = rng.standard_normal((s.n_bodies, op.n_per_body, 2))
+    if complex_input:
+        x = x + 1j * rng.standard_normal(x.shape)
+    got = op.apply(x)
+    monkeypatch.setattr(mp, "LOW_ORDER", 0)
+    op._setup_kernels()
+    assert op._lo_neighbours.size == 0
+    np.testing.assert_allclose(got, op.apply(x), atol=1e-13 * np.abs(got).max())

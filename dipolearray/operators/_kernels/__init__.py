@@ -18,6 +18,7 @@ from ._ewald import (
     structure_factors,
 )
 from ._jit import get_num_threads, set_num_threads
+from ._multipole import low_order_field as multipole_low_order_field
 from ._multipole import near_field as multipole_near_field
 from ._pme import pme_gather, pme_spread
 
@@ -28,6 +29,7 @@ __all__ = [
     "ewald_field",
     "ewald_field_at",
     "multipole_near_field",
+    "multipole_low_order_field",
     "pme_spread",
     "pme_gather",
     "screening_table",

@@ -150,3 +150,97 @@ def near_field(pos, orders, offsets, neighbours, pair_orders, XB, XTB, A, x, out
         for a in range(nt_max):
             for r in range(k):
                 out[i, a, r] -= acc[r, a]
+
+
+@njit(**JIT)
+def _irregular(dx, dy, dz, order, out, inv_pow):  # pragma: no cover - compiled
+    """Irregular solid harmonics ``I_lm`` at one point, degrees 1..order, flat layout.
+
+    Same recurrences as ``solid_harmonics`` (Schmidt semi-normalised Legendre functions
+    without the Condon-Shortley phase); ``cos(m phi)``, ``sin(m phi)`` by rotation.
+    """
+    r = math.sqrt(dx * dx + dy * dy + dz * dz)
+    rho = math.sqrt(dx * dx + dy * dy)
+    ct = dz / r
+    st = rho / r
+    if rho > 0.0:
+        c1 = dx / rho
+        s1 = dy / rho
+    else:
+        c1 = 1.0
+        s1 = 0.0
+    inv_r = 1.0 / r
+    inv_pow[0] = 1.0
+    for p in range(1, order + 2):
+        inv_pow[p] = inv_pow[p - 1] * inv_r
+    r2s = math.sqrt(2.0)
+    pmm = 1.0
+    cm = 1.0
+    sm = 0.0
+    for m in range(0, order + 1):
+        if m > 0:
+            pmm = pmm * st * math.sqrt((2 * m - 1) / (2.0 * m))
+            cm, sm = cm * c1 - sm * s1, sm * c1 + cm * s1
+        p_prev = 0.0
+        p_cur = pmm
+        for l in range(max(m, 1), order + 1):  # noqa: E741
+            if l == m:
+                p_cur = pmm
+            elif l == m + 1:
+                p_prev, p_cur = p_cur, math.sqrt(2 * m + 1.0) * ct * p_cur
+            else:
+                p_prev, p_cur = (
+                    p_cur,
+                    ((2 * l - 1) * ct * p_cur - math.sqrt((l - 1.0) ** 2 - m * m) * p_prev)
+                    / math.sqrt(l * l - m * m * 1.0),
+                )
+            rad = inv_pow[l + 1]
+            if m == 0:
+                out[_pos(l, 0)] = p_cur * rad
+            else:
+                out[_pos(l, m)] = p_cur * cm * r2s * rad
+                out[_pos(l, -m)] = p_cur * sm * r2s * rad
+
+
+@njit(**JIT_PARALLEL)
+def low_order_field(
+    pos, offsets, neighbours, lt_arr, ls_arr, indptr, indices, data, mc, x, out
+):  # pragma: no cover
+    """Subtract from ``out`` the low-order pair couplings ``T(r) x[j]`` built from harmonics.
+
+    ``T_ts(r) = sum_p C[ts, p] I_p(r)`` with the sparse translation tensor ``C`` in CSR
+    form (rows ``t * mc + s``, ``mc = n_unknowns`` of the tensor's order); target degrees
+    stop at ``lt_arr[e]``, source degrees at ``ls_arr[e]``. The dipole-dipole block has no
+    entries in ``C`` (the dipole backend adds it). Cheaper than rotating for low orders.
+    """
+    n = pos.shape[0]
+    k = x.shape[2]
+    nh = indices.max() + 1 if indices.size else 1
+    for i in prange(n):
+        harm = np.zeros(nh)
+        inv_pow = np.empty(64)
+        acc = np.zeros((out.shape[1], k))
+        nt_max = 0
+        for e in range(offsets[i], offsets[i + 1]):
+            j = neighbours[e]
+            lt = lt_arr[e]
+            ls = ls_arr[e]
+            nt = lt * (lt + 2)
+            ns = ls * (ls + 2)
+            nt_max = max(nt_max, nt)
+            _irregular(
+                pos[i, 0] - pos[j, 0], pos[i, 1] - pos[j, 1], pos[i, 2] - pos[j, 2], lt + ls, harm, inv_pow
+            )
+            for t in range(nt):
+                base = t * mc
+                for s in range(ns):
+                    row = base + s
+                    tv = 0.0
+                    for q in range(indptr[row], indptr[row + 1]):
+                        tv += data[q] * harm[indices[q]]
+                    if tv != 0.0:
+                        for r in range(k):
+                            acc[t, r] += tv * x[j, s, r]
+        for a in range(nt_max):
+            for r in range(k):
+                out[i, a, r] -= acc[a, r]
