@@ -96,3 +96,26 @@ def test_estimate_for_touching_chain_names_contact():
     info = near_contact_estimate(s)
     assert info["gap_ratio"] == pytest.approx(0.0, abs=1e-12)
     assert info["dipole_error"] > 0.1
+
+
+def test_local_refined_estimate_matches_the_full_resolve(monkeypatch):
+    # Far from the refined pairs the change of the solution decays like a dipole field,
+    # so re-solving the refined system on the bodies around them gives the estimate of
+    # the full re-solve (which is what it replaces on large scenes).
+    import dipolearray.solvers._model_error as me
+
+    rng = np.random.default_rng(5)
+    grid = np.stack(np.meshgrid(*[np.arange(4)] * 3, indexing="ij"), -1).reshape(-1, 3) * 4.5
+    pos = grid + rng.uniform(-0.3, 0.3, grid.shape)
+    pos[1] = pos[0] + [0.0, 0.0, 2.03]  # one near-contact pair in a loose array of 64
+    s = Scene(pos, Population(Sphere(1.0), Material(10.0)), field=np.eye(3))
+    sol = quiet(s, rtol=1e-10, backend="multipole", backend_options={"accuracy": 1e-4})
+    local = sol.extra["model_error"]
+    assert local["solved_on"].endswith("around the refined pairs")
+    op = sol.extra["multipole_operator"]
+    monkeypatch.setattr(me, "LOCAL_REACH", 1e6)
+    full = me.multipole_model_error(s, op, np.asarray(sol.multipoles), rtol=1e-10, maxiter=500)
+    assert full["solved_on"] == "every body"
+    assert local["body_moment_error"] == pytest.approx(full["body_moment_error"], rel=0.1)
+    assert local["total_moment_error"] == pytest.approx(full["total_moment_error"], rel=0.3)
+    assert full["body_moment_error"] > 0
