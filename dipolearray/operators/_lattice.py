@@ -239,6 +239,10 @@ def translation_tensor(order: int):
     )
 
 
+_REFINE_CAP = 30  # largest periodic order: the translation tensor's fit grows as L^5
+MAX_COUPLING_ENTRIES = 4e8
+
+
 class LatticeMultipoleOperator(MultipoleOperator):
     """Spheres in a periodic box coupled to multipole order ``L`` through lattice sums.
 
@@ -271,6 +275,7 @@ class LatticeMultipoleOperator(MultipoleOperator):
     """
 
     backend = "multipole"
+    _order_cap = _REFINE_CAP
 
     def __init__(
         self,
@@ -417,82 +422,14 @@ class LatticeMultipoleOperator(MultipoleOperator):
             "forces",
         )
 
-    def field_at(self, points, x):
-        """Field of the bodies and their images at points outside them (no applied field).
-
-        The dipoles through the Ewald backend; the higher multipoles of each body from
-        its nearest image within the reach of :meth:`MultipoleOperator.field_at`.
-        """
+    def _point_tree(self, pts, radius):
+        """Points wrapped into the box, their periodic tree; reaches within half the box."""
         from scipy.spatial import cKDTree
 
-        from ._harmonics import expansion_field
-
-        pts = np.ascontiguousarray(points, dtype=np.float64)
-        x = np.asarray(x)
-        out = np.asarray(self._dipole.field_at(pts, np.ascontiguousarray(x[:, :3])))
-        out = out.astype(np.result_type(out, x), copy=True)
-        lmax = int(self.orders.max())
-        if lmax < 2 or pts.shape[0] == 0:
-            return out
-        q = self._degree_norms(x)
-        ls = np.arange(lmax + 1)
-        tau = 0.01 * self.accuracy
-        with np.errstate(divide="ignore"):
-            reach = np.where(q > 0, ((ls + 1) * q / tau) ** (1.0 / (ls + 2)), 0.0)
-        reach[:, :2] = 0.0
-        radius = np.minimum(reach.max(axis=1), 0.5 * float(self.box.min()))
         wrapped = np.mod(pts, self.box)
         wrapped[wrapped >= self.box] = 0.0
-        tree = cKDTree(wrapped, boxsize=self.box)
-        high = x.copy()
-        high[:, :3] = 0.0
-        for j in np.nonzero(self.orders > 1)[0]:
-            idx = tree.query_ball_point(self._positions[j], radius[j])
-            if not idx:
-                continue
-            idx = np.asarray(idx)
-            Lj = int(self.orders[j])
-            rel = self._min_image(wrapped[idx] - self._positions[j])
-            out[idx] += expansion_field(rel, high[j, : n_unknowns(Lj)], Lj, "irregular")
-        return out
+        return wrapped, cKDTree(wrapped, boxsize=self.box), np.minimum(radius, 0.5 * float(self.box.min()))
 
     def interior_field_at(self, body, points, x, incident=None):
         rel = self._min_image(np.asarray(points, dtype=float) - self._positions[body])
         return super().interior_field_at(body, self._positions[body] + rel, x, incident)
-
-    def refined(self, n_pairs=20, extra_degrees=None):
-        """A copy with higher orders on the closest near pairs, capped at degree 30.
-
-        As :meth:`MultipoleOperator.refined`; the cap keeps the translation tensor
-        affordable (its fit grows as ``L^5``), so a scene already at degree 30 reports
-        the change it can measure.
-        """
-        import copy
-
-        new = copy.copy(self)
-        if self.pairs.shape[0] == 0:
-            return new
-        i, j = self.pairs[:, 0], self.pairs[:, 1]
-        bound = np.asarray(self.scene.bounding_radii, dtype=float)
-        ratio = (self._pair_distance(i, j) - bound[i] - bound[j]) / np.minimum(bound[i], bound[j])
-        pick = np.argsort(ratio, kind="stable")[: int(n_pairs)]
-        po = self.pair_orders.copy()
-        orders = self.orders.copy()
-        spherical = np.asarray(self.scene.is_spherical, dtype=bool)
-        for e in pick:
-            add = extra_degrees if extra_degrees is not None else max(4, int(np.ceil(po[e] / 2)))
-            po[e] = min(po[e] + add, _REFINE_CAP)
-            for c in (i[e], j[e]):
-                if spherical[c]:
-                    orders[c] = max(orders[c], min(self.orders[c] + add, _REFINE_CAP))
-        new.pair_orders = po
-        new.orders = orders
-        new.n_per_body = n_unknowns(int(orders.max()))
-        new.n_applies = 0
-        new._setup_kernels()
-        new.order_rule = self.order_rule + f", {len(pick)} closest pairs refined"
-        return new
-
-
-_REFINE_CAP = 30
-MAX_COUPLING_ENTRIES = 4e8

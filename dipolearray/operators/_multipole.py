@@ -380,6 +380,8 @@ class MultipoleOperator(InteractionOperator):
         self._select_pairs(fixed)
         self.n_per_body = n_unknowns(int(self.orders.max()))
 
+    _order_cap = 10**6  # largest degree :meth:`refined` may raise a body to
+
     # -- geometry -------------------------------------------------------------------
     def _candidate_pairs(self, radius):
         """Pairs ``i < j`` closer than ``radius`` (centre to centre) and their distances."""
@@ -650,12 +652,13 @@ class MultipoleOperator(InteractionOperator):
         po = self.pair_orders.copy()
         orders = self.orders.copy()
         spherical = np.asarray(self.scene.is_spherical, dtype=bool)
+        cap = self._order_cap
         for e in pick:
             add = extra_degrees if extra_degrees is not None else max(4, int(np.ceil(po[e] / 2)))
-            po[e] += add
+            po[e] = min(po[e] + add, cap)
             for c in (i[e], j[e]):
                 if spherical[c]:
-                    orders[c] = max(orders[c], self.orders[c] + add)
+                    orders[c] = max(orders[c], min(self.orders[c] + add, cap))
         new.pair_orders = po
         new.orders = orders
         new.n_per_body = n_unknowns(int(orders.max()))
@@ -820,8 +823,6 @@ class MultipoleOperator(InteractionOperator):
         -------
         (P, 3, K) ndarray
         """
-        from scipy.spatial import cKDTree
-
         from ._harmonics import expansion_field
 
         pts = np.ascontiguousarray(points, dtype=np.float64)
@@ -838,7 +839,7 @@ class MultipoleOperator(InteractionOperator):
             reach = np.where(q > 0, ((ls + 1) * q / tau) ** (1.0 / (ls + 2)), 0.0)
         reach[:, :2] = 0.0
         radius = reach.max(axis=1)
-        tree = cKDTree(pts)
+        pts, tree, radius = self._point_tree(pts, radius)
         high = x.copy()
         high[:, :3] = 0.0
         for j in np.nonzero(self.orders > 1)[0]:
@@ -847,10 +848,15 @@ class MultipoleOperator(InteractionOperator):
                 continue
             idx = np.asarray(idx)
             Lj = int(self.orders[j])
-            out[idx] += expansion_field(
-                pts[idx] - self._positions[j], high[j, : n_unknowns(Lj)], Lj, "irregular"
-            )
+            rel = self._min_image(pts[idx] - self._positions[j])
+            out[idx] += expansion_field(rel, high[j, : n_unknowns(Lj)], Lj, "irregular")
         return out
+
+    def _point_tree(self, pts, radius):
+        """Points as the geometry sees them, their k-d tree and each body's reach."""
+        from scipy.spatial import cKDTree
+
+        return pts, cKDTree(pts), radius
 
     def interior_field_at(self, body, points, x, incident=None):
         """Field inside sphere ``body`` at ``points``, from its interior expansion.

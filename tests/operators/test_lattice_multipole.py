@@ -141,3 +141,22 @@ def test_oversized_coupling_is_refused_before_it_is_built(monkeypatch):
     monkeypatch.setattr(lat, "MAX_COUPLING_ENTRIES", 100)
     with pytest.raises(InputError, match="coupling numbers"):
         make_operator(_cell(n=3), "multipole", order=4)
+
+
+def test_field_maps_are_periodic_and_reduce_to_ewald_at_order_one():
+    s = _cell(n=3)
+    rng = np.random.default_rng(2)
+    pts = rng.uniform(0, 7.0, (40, 3))
+    op = make_operator(s, "multipole", order=6)
+    sol = _quiet_solve(s, operator=op, rtol=1e-12)
+    x = np.asarray(sol.multipoles)
+    far = np.min([np.linalg.norm(op._min_image(pts - c), axis=1) for c in op._positions], axis=0) > 1.2
+    e1 = op.field_at(pts[far], x)
+    e2 = op.field_at(pts[far] + [7.0, -14.0, 7.0], x)
+    np.testing.assert_allclose(e1, e2, atol=1e-12 * np.abs(e1).max())
+    ew = make_operator(s, "ewald")
+    dip = np.asarray(ew.field_at(pts[far], x[:, :3]))
+    high = e1 - dip  # the higher multipoles add a visible part near the close pairs
+    assert np.abs(high).max() > 1e-4 * np.abs(dip).max()
+    op1 = make_operator(s, "multipole", order=1)
+    np.testing.assert_allclose(op1.field_at(pts[far], x[:, :3]), dip, atol=1e-12 * np.abs(dip).max())
