@@ -44,7 +44,7 @@ Solution
 estimate_spectral_radius
     Power-iteration estimate of the spectral radius of ``alpha T``.
 near_contact_estimate, closest_pair, NearContactWarning
-    Point-dipole model error from every sphere's nearest neighbour (a two-sphere
+    Point-dipole model error from every sphere's close neighbours (a two-sphere
     multipole solve at the same gap); a dipole-level solve records it in
     ``Solution.extra["near_contact"]`` and warns when the closest pair is off by 5 % or
     more.

@@ -13,8 +13,12 @@ class NearContactWarning(UserWarning):
     """The point-dipole model is inaccurate for the closest pair of spheres."""
 
 
-def _nearest_gaps(scene):
-    """Nearest sphere neighbour of every sphere: ``(spheres, neighbours, gap, gap_ratio)``."""
+def _neighbour_gaps(scene):
+    """Up to seven nearest sphere neighbours of every sphere.
+
+    Returns ``(spheres, neighbours, gap, gap_ratio)`` with ``neighbours``, ``gap`` and
+    ``gap_ratio`` of shape ``(S, k)`` (minimum image in a periodic box), or None.
+    """
     from scipy.spatial import cKDTree
 
     sph = np.nonzero(np.asarray(scene.is_spherical, dtype=bool))[0]
@@ -36,10 +40,18 @@ def _nearest_gaps(scene):
     ri = radii[:, None]
     rj = radii[idx]
     gap = dist - ri - rj
-    ratio = gap / np.minimum(ri, rj)
+    return sph, sph[idx], gap, gap / np.minimum(ri, rj)
+
+
+def _nearest_gaps(scene):
+    """Nearest sphere neighbour of every sphere: ``(spheres, neighbours, gap, gap_ratio)``."""
+    got = _neighbour_gaps(scene)
+    if got is None:
+        return None
+    sph, nb, gap, ratio = got
     best = np.argmin(ratio, axis=1)
     rows = np.arange(sph.size)
-    return sph, sph[idx[rows, best]], gap[rows, best], ratio[rows, best]
+    return sph, nb[rows, best], gap[rows, best], ratio[rows, best]
 
 
 def closest_pair(scene):
@@ -104,7 +116,7 @@ def _as_key(value):
 def near_contact_estimate(scene):
     """Estimated point-dipole error of ``scene`` from its closest pairs.
 
-    Every sphere's nearest neighbour (by gap over the smaller radius) is replaced by two
+    Every sphere's close neighbours (up to seven, by gap over the smaller radius) become two
     equal spheres of their materials at that relative gap (rounded down to 1/8 decade),
     solved with multipoles to convergence (:func:`dipolearray.operators.pair_dipoles`;
     gaps above two radii count as exact).
@@ -116,14 +128,20 @@ def near_contact_estimate(scene):
     dict or None
         ``closest_pair`` keys plus ``dipole_error`` (of the closest pair, the worse of
         the field along and across it) and ``total_moment_error`` (the orientation-
-        averaged signed pair error, ``(e_along + 2 e_across)/3``, averaged over every
-        sphere's nearest neighbour: a rough estimate of the relative error of the
-        sample's total moment); None when there is no pair.
+        averaged signed pair error, ``(e_along + 2 e_across)/3``, summed over each
+        sphere's up to seven nearest neighbours and averaged over spheres: a rough
+        estimate of the relative error of the sample's total moment, in which the pair
+        errors of a sphere's several close neighbours add; dense arrays add many-body
+        enhancement on top, so it errs low there: 9.8 % against 23 % measured on a
+        simple cubic lattice at 45 %, contrast 100); None when there is no pair.
     """
-    got = _nearest_gaps(scene)
+    got = _neighbour_gaps(scene)
     if got is None:
         return None
-    sph, nb, gap, ratio = got
+    sph_all, nb_all, gap_all, ratio_all = got
+    k = nb_all.shape[1]
+    sph = np.repeat(sph_all, k)
+    nb, gap, ratio = nb_all.ravel(), gap_all.ravel(), ratio_all.ravel()
     eps = np.asarray(scene.eps_inclusion)
     eh = _as_key(scene.eps_host)
     bins = np.floor(np.log10(np.maximum(ratio, 1e-9)) * _ERROR_BINS).astype(int)
@@ -167,7 +185,7 @@ def near_contact_check(scene, extra):
             f"point-dipole model: spheres {i} and {j} are {info['gap_ratio']:.3g} radii apart (surface gap); "
             f"a two-sphere multipole solve puts the dipole-moment error of such a pair near "
             f"{100 * info['dipole_error']:.2g} % (about {100 * info['total_moment_error']:.2g} % on the "
-            "total moment, from every sphere's nearest neighbour); local fields and forces there are "
+            "total moment, from every sphere's close neighbours); local fields and forces there are "
             "underestimated; use the multipole model for near-contact scenes (backend='multipole', or "
             "[solver] model = 'multipole' in a config)",
             NearContactWarning,

@@ -119,3 +119,21 @@ def test_local_refined_estimate_matches_the_full_resolve(monkeypatch):
     assert local["body_moment_error"] == pytest.approx(full["body_moment_error"], rel=0.1)
     assert local["total_moment_error"] == pytest.approx(full["total_moment_error"], rel=0.3)
     assert full["body_moment_error"] > 0
+
+
+def test_dipole_level_estimate_counts_every_close_neighbour_on_a_lattice():
+    # Simple cubic lattice at 45 % (gap 0.104 radius), contrast 100: each sphere has six
+    # neighbours at that gap, and their pair errors add on the total moment. The measured
+    # model error of the point dipole is the multipole solve's total moment against the
+    # dipole solve's: 23 % here; the estimate says 9.8 % (many-body enhancement beyond
+    # additive pairs is missing), where counting only the nearest neighbour said 3 %.
+    from dipolearray import Scene as _Scene
+    from dipolearray.arrange import lattice
+
+    arr = lattice("sc", volume_fraction=0.45, sample="periodic", cells=2)
+    s = _Scene.from_arrangement(arr, Population(Sphere(1.0), Material(100.0)))
+    est = near_contact_estimate(s)["total_moment_error"]
+    dip = quiet(s, rtol=1e-10)
+    mp = quiet(s, rtol=1e-10, backend="multipole", backend_options={"accuracy": 1e-4, "check_error": False})
+    true = np.abs(np.asarray(mp.moments).sum(0) / np.asarray(dip.moments).sum(0) - 1)[[0, 1, 2], [0, 1, 2]]
+    assert 0.3 < est / true.max() < 1.5
