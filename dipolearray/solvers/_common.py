@@ -16,6 +16,14 @@ def block_apply(blocks, x):
     return np.einsum("nij,njk->nik", blocks, x)
 
 
+def _block_solve(blocks, x):
+    """Per-body least-squares ``blocks^-1 x``."""
+    out = np.empty(x.shape, dtype=np.result_type(blocks, x))
+    for i in range(x.shape[0]):
+        out[i] = np.linalg.lstsq(blocks[i], x[i], rcond=None)[0]
+    return out
+
+
 def column_norms(x):
     """2-norm of each right-hand side of an ``(N, m, K)`` array -> ``(K,)``."""
     return np.sqrt(np.einsum("nck,nck->k", x.conj(), x).real)
@@ -63,6 +71,33 @@ class MomentSystem:
     def residual(self, p):
         """``b - M p = b + alpha T p - p``."""
         return self.b + self.coupling(p) - p
+
+    def residual_norms(self, p):
+        """``column_norms(residual(p))``, remembered for the last ``p`` (the same object).
+
+        A solver's final check and the caller's report then cost one apply, not two;
+        callers must not modify ``p`` in place after asking.
+        """
+        last = getattr(self, "_last_norms", None)
+        if last is not None and last[0] is p:
+            return last[1]
+        norms = column_norms(self.residual(p))
+        self._last_norms = (p, norms)
+        return norms
+
+    def with_rhs(self, r):
+        """The same operator with right-hand side ``r`` (for a correction ``M delta = r``).
+
+        ``r`` must lie in the range of ``alpha`` (a residual of this system does).
+        """
+        import copy
+
+        new = copy.copy(self)
+        new._last_norms = None
+        new.e0 = self.alpha.solve(r) if hasattr(self.alpha, "solve") else _block_solve(self.alpha, r)
+        new.b = block_apply(self.alpha, new.e0)
+        new.b_norm = column_norms(new.b)
+        return new
 
     def tolerance(self, rtol, atol):
         """Per right-hand side absolute threshold ``max(rtol ||b||, atol)``."""
