@@ -269,6 +269,7 @@ def z_derivative_weights(order: int) -> np.ndarray:
     return np.sqrt(np.clip((l - m) * (l + m), 0, None).astype(float))
 
 
+@lru_cache(maxsize=32)
 def quarter_turn_blocks(order: int, transpose: bool = False):
     """The quarter turns ``X_l`` (or their transposes) as dense blocks, for the kernels.
 
@@ -310,10 +311,13 @@ def quarter_turn_blocks(order: int, transpose: bool = False):
             vals.extend(X[np.ix_(rset, cset)].ravel())
             vptr.append(len(vals))
         start.append(len(rptr) - 1)
-    return tuple(
+    out = tuple(
         np.ascontiguousarray(a, dtype=np.float64 if k == 5 else np.int64)
         for k, a in enumerate((start, rptr, rows, cols, vptr, vals))
     )
+    for a in out:
+        a.setflags(write=False)  # cached and shared
+    return out
 
 
 def _frame(direction):

@@ -334,8 +334,11 @@ class LatticeMultipoleOperator(MultipoleOperator):
         return i, j, self._pair_distance(i, j)
 
     # -- coupling -------------------------------------------------------------------
-    def _setup_kernels(self):
+    def _setup_kernels(self, targets=None):
         import scipy.sparse as sp
+
+        if targets is not None:
+            raise NotImplementedError("row-restricted couplings are not built for periodic scenes")
 
         n = self.n_bodies
         lmax = int(self.orders.max())

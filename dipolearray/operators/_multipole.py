@@ -273,10 +273,12 @@ def _geometric_order(ratio, accuracy, cap):
 LOW_ORDER = 3  # pairs up to this degree couple through the harmonic-tensor kernel (crossover measured)
 
 
+@lru_cache(maxsize=16)
 def _kernel_axial(order):
-    """Axial table laid out ``[m, j, l]`` for the kernel, dipole-dipole entries zeroed."""
+    """Axial table laid out ``[m, j, l]`` for the kernel, dipole-dipole entries zeroed (read-only, cached)."""
     A = np.ascontiguousarray(axial_coefficients(order, order).transpose(2, 0, 1))
     A[:2, 1, 1] = 0.0
+    A.setflags(write=False)
     return A
 
 
@@ -487,13 +489,17 @@ class MultipoleOperator(InteractionOperator):
         self.pair_orders = po
         self.unresolved_pairs = int(np.count_nonzero(near & ~ok)) if fixed is None else 0
 
-    def _setup_kernels(self):
+    def _setup_kernels(self, targets=None):
+        """Directed near-pair lists of the kernels; ``targets`` (mask) keeps only those rows."""
         lmax = int(self.orders.max())
         n = self.n_bodies
         i, j = self.pairs[:, 0], self.pairs[:, 1]
         tgt = np.concatenate([i, j])
         src = np.concatenate([j, i])
         po = np.concatenate([self.pair_orders, self.pair_orders])
+        if targets is not None:
+            keep = np.asarray(targets, dtype=bool)[tgt]
+            tgt, src, po = tgt[keep], src[keep], po[keep]
         order = np.argsort(tgt, kind="stable")
         self._neighbours = np.ascontiguousarray(src[order], dtype=np.int64)
         self._nb_orders = np.ascontiguousarray(po[order], dtype=np.int64)
@@ -533,10 +539,15 @@ class MultipoleOperator(InteractionOperator):
 
     # -- contract -------------------------------------------------------------------
     def _apply(self, x):
-        from ._kernels import multipole_low_order_field, multipole_near_field
-
         out = np.zeros_like(x)
         out[:, :3] = self._dipole._apply(np.ascontiguousarray(x[:, :3]))
+        self._near_apply(x, out)
+        return out
+
+    def _near_apply(self, x, out):
+        """Add the near pairs' multipole coupling (beyond dipole-dipole) of ``x`` to ``out``."""
+        from ._kernels import multipole_low_order_field, multipole_near_field
+
         if self._hi_neighbours.size:
             multipole_near_field(
                 self._positions, self.orders, self._hi_offsets, self._hi_neighbours, self._hi_orders,
@@ -548,6 +559,30 @@ class MultipoleOperator(InteractionOperator):
                 self._positions, self._lo_offsets, self._lo_neighbours, self._lo_lt, self._lo_ls,
                 indptr, indices, data, mc, x, out,
             )  # fmt: skip
+
+    def near_rows(self, x, rows):
+        """The near pairs' coupling of ``x`` (as in :meth:`apply`, without the dipole part) on ``rows``.
+
+        Costs the directed pairs that end on ``rows`` only; other rows of the result are zero.
+
+        Parameters
+        ----------
+        x : (N, M, K) ndarray
+        rows : array_like of int
+
+        Returns
+        -------
+        (N, M, K) ndarray
+        """
+        import copy
+
+        mask = np.zeros(self.n_bodies, dtype=bool)
+        mask[np.asarray(rows, dtype=np.int64)] = True
+        part = copy.copy(self)
+        part._setup_kernels(targets=mask)
+        x = np.ascontiguousarray(x)
+        out = np.zeros_like(x)
+        part._near_apply(x, out)
         return out
 
     def response(self) -> BodyResponse:

@@ -160,14 +160,15 @@ def gmres(system, *, rtol, atol, maxiter, x0, callback, restart=60):
     return p, history, total_it, reason
 
 
-def defect_correction(fine, coarse, x0, *, rtol, atol, maxiter, callback, inner_rtol=0.05, max_outer=12):
+def defect_correction(fine, coarse, x0, *, rtol, atol, maxiter, callback, inner_rtol=0.02, max_outer=12):
     """Solve the ``fine`` system by corrections from the cheaper ``coarse`` one.
 
     Each outer step takes the true residual ``r = b - M_f x`` of the fine system (one
     fine apply) and adds the correction ``delta`` from ``M_c delta = r``, solved by COCG
-    to ``inner_rtol``. It converges when ``M_f`` and ``M_c`` differ by little (the fine
-    operator couples more pairs, or couples them more exactly): each step then shrinks
-    the residual by about ``max(inner_rtol, ||(M_c - M_f) M_c^-1||)``.
+    to ``inner_rtol`` (tighter, down to a tenth of it, on a step that can finish: half
+    the ratio of tolerance to residual). It converges when ``M_f`` and ``M_c`` differ by
+    little (the fine operator couples more pairs, or couples them more exactly): each
+    step then shrinks the residual by about ``max(inner_rtol, ||(M_c - M_f) M_c^-1||)``.
 
     Returns
     -------
@@ -204,9 +205,10 @@ def defect_correction(fine, coarse, x0, *, rtol, atol, maxiter, callback, inner_
         r = np.where(done[None, None, :], 0.0, r)  # finished right-hand sides get no correction
         inner = coarse.with_rhs(r)
         start = np.zeros_like(r)
+        need = 0.5 * float(np.min(tol[~done] / rn[~done]))
         delta, _h, k, _reason = cocg(
             inner,
-            rtol=inner_rtol,
+            rtol=min(inner_rtol, max(need, 0.1 * inner_rtol)),
             atol=0.0,
             maxiter=max(1, maxiter - it),
             x0=start,

@@ -236,7 +236,7 @@ def multipole_model_error(scene, op, moments_full, *, rtol, maxiter, n_pairs=20)
         x0 = x0.real
     local = _local_bodies(op, fine, n_pairs)
     if local is not None:
-        delta, ok = _local_change(scene, fine, x0, local, maxiter)
+        delta, ok = _local_change(scene, op, fine, x0, local, maxiter)
         p2 = x0.copy()
         p2[local] += delta
         solved_on = f"{local.size} bodies around the refined pairs"
@@ -283,31 +283,29 @@ def _local_bodies(op, fine, n_pairs):
     return local
 
 
-def _rows_residual(scene, fine, x0, rows):
-    """Rows ``rows`` of the residual ``b - M x0`` of the ``fine`` system.
+def _refinement_residual(op, fine, x0):
+    """Residual ``b - M_f x0`` of the refined system at the solution ``x0`` of ``op``.
 
-    Only the near pairs with an end in ``rows`` are coupled (the others do not reach
-    those rows), so this costs a fraction of a full apply when ``rows`` is small.
+    ``x0`` solves ``op`` (its residual is below the solve's tolerance and left out
+    here), so the residual is ``K_f (G_f - G) x0``. The couplings differ only on the
+    rows of the refined pairs and of the spheres whose order was raised; those rows are
+    computed, the rest are zero, at the cost of a few bodies' near pairs.
     """
-    import copy
-
-    from ._common import MomentSystem
-
-    mask = np.zeros(scene.n_bodies, dtype=bool)
-    mask[rows] = True
-    part = copy.copy(fine)
-    keep = mask[fine.pairs[:, 0]] | mask[fine.pairs[:, 1]]
-    part.pairs = fine.pairs[keep]
-    part.pair_orders = np.asarray(fine.pair_orders)[keep]
-    part.n_applies = 0
-    part._setup_kernels()
-    return MomentSystem(scene, part).residual(x0)[rows]
+    changed_pairs = np.asarray(fine.pair_orders) != np.asarray(op.pair_orders)
+    rows = np.unique(
+        np.concatenate([np.nonzero(fine.orders != op.orders)[0], fine.pairs[changed_pairs].ravel()])
+    )
+    diff = fine.near_rows(x0, rows)
+    m = op.n_per_body
+    diff[:, :m] -= op.near_rows(np.ascontiguousarray(x0[:, :m]), rows)
+    return fine.response().apply(diff)
 
 
-def _local_change(scene, fine, x0, local, maxiter):
+def _local_change(scene, op, fine, x0, local, maxiter):
     """Change of the solution when the refined system is solved on ``local`` only.
 
-    With ``rho = b - M x0`` the residual of the old solution in the refined system, the
+    With ``rho = b - M x0`` the residual of the old solution in the refined system
+    (:func:`_refinement_residual`), the
     change ``delta`` solves ``(I - K G) delta = rho``; restricted to the bodies near the
     refined spheres (the residual lives there and the change decays like a dipole field
     away from them), the rest held fixed.
@@ -318,7 +316,7 @@ def _local_change(scene, fine, x0, local, maxiter):
     from ._common import MomentSystem
     from ._krylov import cocg
 
-    rho = _rows_residual(scene, fine, x0, local)
+    rho = _refinement_residual(op, fine, x0)[local]
     changes = {
         "positions": np.asarray(scene.positions)[local],
         "population_index": np.asarray(scene.population_index)[local],

@@ -29,12 +29,15 @@ def _pos(l, m):  # pragma: no cover - compiled
 
 
 @njit(**JIT)
-def _zrot(u, order, gamma):  # pragma: no cover - compiled
-    """In place: the z-rotation ``Z(gamma)`` on degrees 1..order of ``u`` (K, M)."""
+def _zrot_tab(u, order, cm, sm, sign):  # pragma: no cover - compiled
+    """In place: ``Z(sign * gamma)`` on degrees 1..order of ``u`` (K, M).
+
+    From the tables ``cm[m] = cos(m gamma)``, ``sm[m] = sin(m gamma)`` (no trigonometric calls).
+    """
     k = u.shape[0]
     for m in range(1, order + 1):
-        c = math.cos(m * gamma)
-        s = math.sin(m * gamma)
+        c = cm[m]
+        s = sign * sm[m]
         for l in range(m, order + 1):
             ip = _pos(l, m)
             im = _pos(l, -m)
@@ -43,6 +46,16 @@ def _zrot(u, order, gamma):  # pragma: no cover - compiled
                 b = u[r, im]
                 u[r, ip] = c * a + s * b
                 u[r, im] = -s * a + c * b
+
+
+@njit(inline="always", **JIT)
+def _angle_table(c1, s1, order, cm, sm):  # pragma: no cover - compiled
+    """``cm[m] = cos(m g)``, ``sm[m] = sin(m g)`` for m <= order from ``cos g``, ``sin g``."""
+    cm[0] = 1.0
+    sm[0] = 0.0
+    for m in range(1, order + 1):
+        cm[m] = cm[m - 1] * c1 - sm[m - 1] * s1
+        sm[m] = sm[m - 1] * c1 + cm[m - 1] * s1
 
 
 @njit(**JIT)
@@ -94,6 +107,10 @@ def near_field(pos, orders, offsets, neighbours, pair_orders, XB, XTB, A, x, out
         g = np.empty(2 * lmax + 1)
         inv_pow = np.empty(2 * lmax + 2)
         ul = np.empty(lmax + 2)
+        cp = np.empty(lmax + 1)
+        sp = np.empty(lmax + 1)
+        cth = np.empty(lmax + 1)
+        sth = np.empty(lmax + 1)
         nt_max = 0
         for e in range(offsets[i], offsets[i + 1]):
             j = neighbours[e]
@@ -106,8 +123,14 @@ def near_field(pos, orders, offsets, neighbours, pair_orders, XB, XTB, A, x, out
             dy = pos[i, 1] - pos[j, 1]
             dz = pos[i, 2] - pos[j, 2]
             d = math.sqrt(dx * dx + dy * dy + dz * dz)
-            theta = math.acos(min(1.0, max(-1.0, dz / d)))
-            phi = math.atan2(dy, dx)
+            rho = math.sqrt(dx * dx + dy * dy)
+            # cos and sin of the polar angle theta and the azimuth phi, and of their multiples.
+            lm = max(ls, lt)
+            if rho > 0.0:
+                _angle_table(dx / rho, dy / rho, lm, cp, sp)
+            else:
+                _angle_table(1.0, 0.0, lm, cp, sp)
+            _angle_table(dz / d, rho / d, lm, cth, sth)
             ns = ls * (ls + 2)
             nt = lt * (lt + 2)
             nt_max = max(nt_max, nt)
@@ -115,9 +138,9 @@ def near_field(pos, orders, offsets, neighbours, pair_orders, XB, XTB, A, x, out
                 for a in range(ns):
                     u[r, a] = x[j, a, r]
             # Into the frame where the pair axis is +z: X^T Z(-theta) X Z(phi).
-            _zrot(u, ls, phi)
+            _zrot_tab(u, ls, cp, sp, 1.0)
             _xrot(u, ls, s0, s1, s2, s3, s4, s5, g, tmp)
-            _zrot(u, ls, -theta)
+            _zrot_tab(u, ls, cth, sth, -1.0)
             _xrot(u, ls, t0, t1, t2, t3, t4, t5, g, tmp)
             inv_d = 1.0 / d
             inv_pow[0] = 1.0
@@ -141,9 +164,9 @@ def near_field(pos, orders, offsets, neighbours, pair_orders, XB, XTB, A, x, out
                         v[r, _pos(jj, m)] = accv * inv_pow[jj + 1]
             # Back to the lab frame: Z(-phi) X^T Z(theta) X.
             _xrot(v, lt, s0, s1, s2, s3, s4, s5, g, tmp)
-            _zrot(v, lt, theta)
+            _zrot_tab(v, lt, cth, sth, 1.0)
             _xrot(v, lt, t0, t1, t2, t3, t4, t5, g, tmp)
-            _zrot(v, lt, -phi)
+            _zrot_tab(v, lt, cp, sp, -1.0)
             for r in range(k):
                 for a in range(nt):
                     acc[r, a] += v[r, a]
