@@ -279,3 +279,22 @@ def test_low_order_tensor_kernel_matches_the_rotation_kernel(monkeypatch, comple
     op._setup_kernels()
     assert op._lo_neighbours.size == 0
     np.testing.assert_allclose(got, op.apply(x), atol=1e-13 * np.abs(got).max())
+
+
+def test_row_restricted_coupling_matches_the_full_apply_on_those_rows():
+    rng = np.random.default_rng(8)
+    pos = np.array(
+        [[0, 0, 0], [0, 0, 2.05], [2.3, 0.4, 0.9], [0.2, 2.4, 1.1], [-2.2, 0.3, -0.6], [6, 6, 6.0]]
+    )
+    s = _scene(pos)
+    op = MultipoleOperator(s, order=5, accuracy=1e-8)
+    x = rng.standard_normal((6, op.n_per_body, 2))
+    full = op.apply(x)
+    dip = np.zeros_like(full)
+    dip[:, :3] = make_operator(s, "direct").apply(np.ascontiguousarray(x[:, :3]))
+    rows = [1, 3]
+    part = op.near_rows(x, rows)
+    np.testing.assert_allclose(part[rows], (full - dip)[rows], rtol=1e-12, atol=1e-14)
+    others = np.setdiff1d(np.arange(6), rows)
+    assert not np.any(part[others])
+    assert np.any(part[rows])

@@ -137,3 +137,80 @@ def test_dipole_level_estimate_counts_every_close_neighbour_on_a_lattice():
     mp = quiet(s, rtol=1e-10, backend="multipole", backend_options={"accuracy": 1e-4, "check_error": False})
     true = np.abs(np.asarray(mp.moments).sum(0) / np.asarray(dip.moments).sum(0) - 1)[[0, 1, 2], [0, 1, 2]]
     assert 0.3 < est / true.max() < 1.5
+
+
+def test_refinement_residual_is_the_full_residual_change():
+    # Rows of b - M_f x0 of the refined system, from the couplings that differ only:
+    # equal to the full residual of the refined system minus that of the solved one.
+    import dipolearray.solvers._model_error as me
+    from dipolearray.solvers._common import MomentSystem
+
+    s = Scene(cluster(n=10, min_gap=0.03), Population(Sphere(1.0), Material(10.0)), field=np.eye(3))
+    op = MultipoleOperator(s, order="auto", accuracy=1e-4)
+    x = quiet(s, rtol=1e-10, operator=op).multipoles
+    fine = op.refined(n_pairs=3)
+    x0 = np.zeros((s.n_bodies, fine.n_per_body, 3))
+    x0[:, : x.shape[1]] = x
+    m = op.n_per_body
+    want = MomentSystem(s, fine).residual(x0)
+    want[:, :m] -= MomentSystem(s, op).residual(np.ascontiguousarray(x))
+    got = me._refinement_residual(op, fine, x0)
+    np.testing.assert_allclose(got, want, rtol=0, atol=1e-12 * np.abs(want).max())
+    assert np.abs(want).max() > 1e-6  # the refinement does change the residual
+
+
+def test_adaptive_solve_by_corrections_matches_two_full_solves():
+    # The adaptive solve first solves loosely, then corrects with the first operator as
+    # inner solver; it must land on the solution of the extended system, as found by a
+    # plain second solve to the same tolerance.
+    from dipolearray.arrange import random_sequential_addition
+    from dipolearray.solvers._common import MomentSystem
+
+    arr = random_sequential_addition(80, 0.25, region="sphere", rng=2)
+    s = Scene.from_arrangement(arr, Population(Sphere(1.0), Material(10.0)))
+    op = MultipoleOperator(s, order="auto", accuracy=1e-5, check_error=False)
+    sol = quiet(s, rtol=1e-7, operator=op)
+    assert sol.converged
+    assert "corrections from the first operator" in sol.method_reason
+    assert sol.extra["pairs_added"] > 0
+    base = MultipoleOperator(s, order="auto", accuracy=1e-5, check_error=False, adaptive=False)
+    first = quiet(s, rtol=1e-7, operator=base)
+    ext = base.extended(np.asarray(first.multipoles))
+    assert ext.n_added == sol.extra["pairs_added"]
+    ref = quiet(s, rtol=1e-9, operator=ext, x0=first.multipoles)
+    scale = np.max(np.linalg.norm(ref.moments, axis=1))
+    assert np.max(np.linalg.norm(sol.moments - ref.moments, axis=1)) / scale < 1e-6
+    # and its residual in the extended system is what it reports
+    true = MomentSystem(s, ext).residual_norms(np.asarray(sol.multipoles)) / MomentSystem(s, ext).b_norm
+    np.testing.assert_allclose(true, sol.residual, rtol=1e-6)
+    assert np.all(true <= 1e-7)
+
+
+def test_defect_correction_gives_up_when_the_coarse_operator_is_far_off():
+    # Coarse operator without any near-pair coupling: a near-contact chain's corrections
+    # shrink the residual too slowly, and the correction says so (the solver then goes on
+    # with the fine system alone).
+    import copy
+
+    from dipolearray.solvers._common import MomentSystem
+    from dipolearray.solvers._krylov import defect_correction
+
+    pos = np.array([[0, 0, 0], [0, 0, 2.01], [0, 0, 4.02], [0, 0, 6.03]])
+    s = Scene(pos, Population(Sphere(1.0), Material(100.0)))
+    fine_op = MultipoleOperator(s, order=12, accuracy=1e-8)
+    coarse_op = copy.copy(fine_op)
+    coarse_op.pairs = fine_op.pairs[:0]
+    coarse_op.pair_orders = fine_op.pair_orders[:0]
+    coarse_op._setup_kernels()
+    fine, coarse = MomentSystem(s, fine_op), MomentSystem(s, coarse_op)
+    x, hist, _it, reason, outer = defect_correction(
+        fine, coarse, fine.b.copy(), rtol=1e-10, atol=0.0, maxiter=200, callback=None
+    )
+    assert reason == "slow"
+    assert outer < 12
+    # With the fine operator as its own coarse one, a correction solves it.
+    x, hist, _it, reason, outer = defect_correction(
+        fine, fine, fine.b.copy(), rtol=1e-10, atol=0.0, maxiter=200, callback=None, inner_rtol=1e-3
+    )
+    assert reason == "converged"
+    assert np.all(fine.residual_norms(x) <= 1e-10 * fine.b_norm)
