@@ -61,6 +61,13 @@ the dipole degree only, and every method above runs unchanged on the larger syst
 ``auto`` goes direct up to 192 unknowns. ``Solution.moments`` is the dipole part,
 ``Solution.multipoles`` the full coefficients.
 
+An adaptive multipole operator (the default) adds the pairs its solved multipoles show
+are needed. Iteratively, the first solve then stops at ``ADAPTIVE_FIRST_RTOL`` (1e-3,
+enough to show which pairs), and the extended system is solved by defect correction:
+its true residual each step, the correction from the first (cheaper) operator by COCG,
+plain COCG on the extended system if a step shrinks the residual less than twice. The
+stopping criterion is the one above, on the extended system.
+
 Methods
 -------
     Accepted method names.

@@ -188,9 +188,11 @@ def solve(
         if pair is not None:
             extra["closest_gap_ratio"] = pair["gap_ratio"]
         if getattr(system.op, "check_error", False) and ok:
+            t_est = time.perf_counter()
             extra["model_error"] = multipole_model_error(
                 scene, system.op, np.asarray(p), rtol=rtol, maxiter=maxiter
             )
+            extra["model_error"]["wall_s"] = time.perf_counter() - t_est
     elif model_check:
         near_contact_check(scene, extra)
     return Solution(

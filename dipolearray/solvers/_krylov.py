@@ -206,13 +206,19 @@ def defect_correction(fine, coarse, x0, *, rtol, atol, maxiter, callback, inner_
         inner = coarse.with_rhs(r)
         start = np.zeros_like(r)
         need = 0.5 * float(np.min(tol[~done] / rn[~done]))
+        inner_cb = None
+        if callback is not None:
+            # Progress: the inner residual relative to this step's, times this step's.
+            def inner_cb(i, res, base=it, scale=history[-1]):
+                callback(base + i, res * scale)
+
         delta, _h, k, _reason = cocg(
             inner,
             rtol=min(inner_rtol, max(need, 0.1 * inner_rtol)),
             atol=0.0,
             maxiter=max(1, maxiter - it),
             x0=start,
-            callback=None,
+            callback=inner_cb,
             final_check=False,
         )
         it += k + 1

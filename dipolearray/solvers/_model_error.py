@@ -210,7 +210,8 @@ def multipole_model_error(scene, op, moments_full, *, rtol, maxiter, n_pairs=20)
         relative change of the total dipole moment over the applied fields;
         ``body_moment_error``: largest change of any body's dipole relative to the
         largest body dipole; ``refined_pairs``; ``orders_refined`` (the
-        largest order in the refined solve); ``converged``.
+        largest order in the refined solve); ``converged``; ``solved_on``; and, added by
+        :func:`dipolearray.solvers.solve`, ``wall_s`` (seconds the estimate took).
     """
     from ._common import MomentSystem, column_norms
     from ._krylov import cocg
