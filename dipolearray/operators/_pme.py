@@ -29,6 +29,25 @@ def _bspline_moduli(K, n):
     return mod
 
 
+def _fold(Q, K, pad):
+    """Add the ``pad`` leading planes of the padded mesh onto the periodic mesh (R, K0, K1, K2).
+
+    Padded index ``gp`` is mesh point ``(gp - pad) mod K``: planes ``pad ..`` are the mesh,
+    planes ``0 .. pad-1`` wrap onto its last ``pad`` planes.
+    """
+    for ax in range(3):
+        k = K[ax]
+        lead = [slice(None)] * 4
+        lead[ax + 1] = slice(0, pad)
+        body = [slice(None)] * 4
+        body[ax + 1] = slice(pad, pad + k)
+        tail = [slice(None)] * 4
+        tail[ax + 1] = slice(pad + k - pad, pad + k)
+        Q[tuple(tail)] += Q[tuple(lead)]
+        Q = Q[tuple(body)]
+    return np.ascontiguousarray(Q)
+
+
 @register_backend("pme")
 class PMEOperator(EwaldOperator):
     """Periodic point-dipole coupling by smooth particle-mesh Ewald (B-splines, scipy.fft).
@@ -103,9 +122,19 @@ class PMEOperator(EwaldOperator):
             G = 4.0 * math.pi / float(np.prod(L)) * np.exp(-k2 / (4 * self.alpha**2)) / k2
         G[0, 0, 0] = 0.0  # conducting boundary: no k = 0 term
         G *= mods[0][:, None, None] * mods[1][None, :, None] * mods[2][None, None, :]
-        self._influence = G
-        self._u = np.ascontiguousarray(pos * (K / L)[None, :])
-        self._scale = np.ascontiguousarray((K / L).astype(float))
+        self._influence = np.ascontiguousarray(G[:, :, : int(K[2]) // 2 + 1])  # rfft half
+        from ._kernels import pme_weights
+
+        u = np.ascontiguousarray(pos * (K / L)[None, :])
+        u = np.minimum(u, np.nextafter(K.astype(float), 0.0)[None, :])  # floor(u) < K always
+        self._mstart, self._w, self._d = pme_weights(u, n_ord, np.ascontiguousarray((K / L).astype(float)))
+        # Spreading runs slab by slab along x (see _kernels/_pme.py): bodies sorted by slab.
+        slab = self._mstart[:, 0] // n_ord
+        # Within a slab, by y then z: neighbouring bodies share mesh lines (cache reuse).
+        st = self._mstart
+        self._order = np.lexsort((st[:, 2], st[:, 1], slab)).astype(np.int64)
+        n_slabs = int(K[0] + n_ord - 1) // n_ord + 1
+        self._slabs = np.searchsorted(slab[self._order], np.arange(n_slabs + 1)).astype(np.int64)
         self.n_kvectors = int(np.prod(K))
 
     def _apply(self, x):
@@ -119,16 +148,20 @@ class PMEOperator(EwaldOperator):
             self._pos, p, self.box, self.alpha, self.r_cut, self._cell_of, self._start, self._items,
             self._ncell, out, self._table, self._table_r0, self._table_h,
         )  # fmt: skip
-        K = self.mesh
+        K = tuple(int(k) for k in self.mesh)
         kk = p.shape[2]
-        Q = np.zeros((kk, int(K[0]), int(K[1]), int(K[2])))
-        pme_spread(self._u, p, K, self.order, self._scale, Q)
+        pad = self.order - 1
+        Q = np.zeros((kk, K[0] + pad, K[1] + pad, K[2] + pad))
+        pme_spread(self._mstart, self._w, self._d, self._order, self._slabs, p, Q)
+        Q = _fold(Q, K, pad)
         Qh = fft.rfftn(Q, axes=(1, 2, 3), workers=-1)
-        G = self._influence[:, :, : Qh.shape[3]]
-        Phi = fft.irfftn(Qh * G[None], s=tuple(int(k) for k in K), axes=(1, 2, 3), workers=-1) * float(
-            np.prod(K)
-        )
-        pme_gather(self._u, np.ascontiguousarray(Phi), K, self.order, self._scale, out)
+        del Q
+        Qh *= self._influence[None]
+        Phi = fft.irfftn(Qh, s=K, axes=(1, 2, 3), workers=-1, overwrite_x=True)
+        del Qh
+        Phi *= float(np.prod(K))
+        Phi = np.pad(Phi, ((0, 0), (pad, 0), (pad, 0), (pad, 0)), mode="wrap")
+        pme_gather(self._mstart, self._w, self._d, self._order, Phi, out)
         out += self._self * p
         return out
 

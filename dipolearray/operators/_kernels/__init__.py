@@ -20,7 +20,7 @@ from ._ewald import (
 from ._jit import get_num_threads, set_num_threads
 from ._multipole import low_order_field as multipole_low_order_field
 from ._multipole import near_field as multipole_near_field
-from ._pme import pme_gather, pme_spread
+from ._pme import pme_gather, pme_spread, pme_weights
 
 __all__ = [
     "dipole_field",
@@ -32,6 +32,7 @@ __all__ = [
     "multipole_low_order_field",
     "pme_spread",
     "pme_gather",
+    "pme_weights",
     "screening_table",
     "set_num_threads",
     "get_num_threads",

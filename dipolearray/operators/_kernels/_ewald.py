@@ -74,7 +74,8 @@ def ewald_real(pos, p, box, alpha, rc, cell_of, start, items, ncell, out, table,
     kk = p.shape[2]
     rc2 = rc * rc
     a2 = alpha * alpha
-    for i in numba.prange(n):
+    for si in numba.prange(n):
+        i = items[si]  # cell by cell: consecutive bodies share their neighbours (cache reuse)
         ax = np.empty(3, np.int64)
         ay = np.empty(3, np.int64)
         az = np.empty(3, np.int64)

@@ -3,6 +3,20 @@
 Fractional coordinates ``u = K r / L`` per axis; body ``j`` touches the mesh points
 ``g = floor(u) - t`` for ``t = 0 .. n-1`` with weight ``M_n(u - g)`` (cardinal B-spline
 of order ``n``) and derivative ``dM_n/du = M_{n-1}(x) - M_{n-1}(x - 1)``.
+
+Layout
+------
+The weights depend on the geometry only, so :func:`pme_weights` computes them once per
+operator, in reversed order: body ``j`` touches the *padded* mesh points
+``floor(u) + t``, ``t = 0 .. n-1``, of a mesh with ``n - 1`` extra planes per axis
+(padded index ``g + n - 1``). Spreading then writes ``n`` consecutive numbers along
+the last axis and never wraps; the caller folds the padding back (``fold_padding``)
+and, for gathering, fills it from the periodic mesh (``np.pad(mode="wrap")``).
+
+Threads: gathering runs over bodies (no shared writes). Spreading sorts the bodies into
+slabs of ``n`` planes along x; a body of slab ``b`` writes padded planes
+``b n .. b n + 2n - 2``, so slabs of one parity never touch the same plane and each
+parity runs its slabs in parallel.
 """
 
 from __future__ import annotations
@@ -10,7 +24,7 @@ from __future__ import annotations
 import numba
 import numpy as np
 
-from ._jit import JIT
+from ._jit import JIT, JIT_PARALLEL
 
 
 @numba.njit(**JIT)
@@ -37,65 +51,94 @@ def _bspline(x, n, out, dout):
 
 
 @numba.njit(**JIT)
-def pme_spread(u, p, K, n, scale, Q):
-    """``Q[g] += sum_j p_j . grad W(r_j - g)`` for every right-hand side (``Q`` is (R, K0, K1, K2))."""
+def pme_weights(u, n, scale):
+    """Start index ``floor(u)`` (N, 3), weights and scaled derivatives (N, 3, n), reversed order."""
     nb = u.shape[0]
-    kk = p.shape[2]
-    wx = np.empty(n)
-    wy = np.empty(n)
-    wz = np.empty(n)
-    dx = np.empty(n)
-    dy = np.empty(n)
-    dz = np.empty(n)
+    start = np.empty((nb, 3), dtype=np.int64)
+    w = np.empty((nb, 3, n))
+    d = np.empty((nb, 3, n))
+    tw = np.empty(n)
+    td = np.empty(n)
     for j in range(nb):
-        fx = int(np.floor(u[j, 0]))
-        fy = int(np.floor(u[j, 1]))
-        fz = int(np.floor(u[j, 2]))
-        _bspline(u[j, 0] - fx, n, wx, dx)
-        _bspline(u[j, 1] - fy, n, wy, dy)
-        _bspline(u[j, 2] - fz, n, wz, dz)
-        for a in range(n):
-            gx = (fx - a) % K[0]
-            for b in range(n):
-                gy = (fy - b) % K[1]
-                for c in range(n):
-                    gz = (fz - c) % K[2]
-                    g0 = dx[a] * wy[b] * wz[c] * scale[0]
-                    g1 = wx[a] * dy[b] * wz[c] * scale[1]
-                    g2 = wx[a] * wy[b] * dz[c] * scale[2]
-                    for q in range(kk):
-                        Q[q, gx, gy, gz] += p[j, 0, q] * g0 + p[j, 1, q] * g1 + p[j, 2, q] * g2
+        for ax in range(3):
+            f = int(np.floor(u[j, ax]))
+            start[j, ax] = f
+            _bspline(u[j, ax] - f, n, tw, td)
+            for t in range(n):
+                w[j, ax, t] = tw[n - 1 - t]
+                d[j, ax, t] = td[n - 1 - t] * scale[ax]
+    return start, w, d
 
 
 @numba.njit(**JIT)
-def pme_gather(u, Phi, K, n, scale, out):
-    """``out[i] -= sum_g grad W(r_i - g) Phi[g]`` (the field of the mesh potential at every body)."""
-    nb = u.shape[0]
-    kk = Phi.shape[0]
-    wx = np.empty(n)
-    wy = np.empty(n)
-    wz = np.empty(n)
-    dx = np.empty(n)
-    dy = np.empty(n)
-    dz = np.empty(n)
-    for i in range(nb):
-        fx = int(np.floor(u[i, 0]))
-        fy = int(np.floor(u[i, 1]))
-        fz = int(np.floor(u[i, 2]))
-        _bspline(u[i, 0] - fx, n, wx, dx)
-        _bspline(u[i, 1] - fy, n, wy, dy)
-        _bspline(u[i, 2] - fz, n, wz, dz)
+def _spread_one(j, start, w, d, p, Q):
+    n = w.shape[2]
+    ix = start[j, 0]
+    iy = start[j, 1]
+    iz = start[j, 2]
+    for q in range(p.shape[2]):
+        p0 = p[j, 0, q]
+        p1 = p[j, 1, q]
+        p2 = p[j, 2, q]
         for a in range(n):
-            gx = (fx - a) % K[0]
+            wxa = w[j, 0, a]
+            dxa = d[j, 0, a]
             for b in range(n):
-                gy = (fy - b) % K[1]
+                s = p0 * dxa * w[j, 1, b] + p1 * wxa * d[j, 1, b]
+                c2 = p2 * wxa * w[j, 1, b]
+                row = Q[q, ix + a, iy + b]
                 for c in range(n):
-                    gz = (fz - c) % K[2]
-                    g0 = dx[a] * wy[b] * wz[c] * scale[0]
-                    g1 = wx[a] * dy[b] * wz[c] * scale[1]
-                    g2 = wx[a] * wy[b] * dz[c] * scale[2]
-                    for q in range(kk):
-                        v = Phi[q, gx, gy, gz]
-                        out[i, 0, q] -= g0 * v
-                        out[i, 1, q] -= g1 * v
-                        out[i, 2, q] -= g2 * v
+                    row[iz + c] += s * w[j, 2, c] + c2 * d[j, 2, c]
+
+
+@numba.njit(**JIT_PARALLEL)
+def pme_spread(start, w, d, order, slabs, p, Q):
+    """``Q[g] += sum_j p_j . grad W(r_j - g)`` on the padded mesh ``Q`` (R, K0+n-1, K1+n-1, K2+n-1).
+
+    ``order`` lists the bodies slab by slab along x, ``slabs[s] .. slabs[s+1]`` being
+    slab ``s`` (bodies with ``floor(u_x) // n == s``).
+    """
+    ns = slabs.shape[0] - 1
+    for parity in range(2):
+        half = (ns - parity + 1) // 2
+        for h in numba.prange(half):
+            s = 2 * h + parity
+            for k in range(slabs[s], slabs[s + 1]):
+                _spread_one(order[k], start, w, d, p, Q)
+
+
+@numba.njit(**JIT_PARALLEL)
+def pme_gather(start, w, d, order, Phi, out):
+    """``out[i] -= sum_g grad W(r_i - g) Phi[g]`` from the padded mesh potential ``Phi``.
+
+    Bodies are visited in ``order`` (spatially sorted, for cache reuse).
+    """
+    nb = start.shape[0]
+    n = w.shape[2]
+    kk = Phi.shape[0]
+    for k in numba.prange(nb):
+        i = order[k]
+        ix = start[i, 0]
+        iy = start[i, 1]
+        iz = start[i, 2]
+        for q in range(kk):
+            ox = 0.0
+            oy = 0.0
+            oz = 0.0
+            for a in range(n):
+                wxa = w[i, 0, a]
+                dxa = d[i, 0, a]
+                for b in range(n):
+                    row = Phi[q, ix + a, iy + b]
+                    tz = 0.0
+                    tdz = 0.0
+                    for c in range(n):
+                        v = row[iz + c]
+                        tz += w[i, 2, c] * v
+                        tdz += d[i, 2, c] * v
+                    ox += dxa * w[i, 1, b] * tz
+                    oy += wxa * d[i, 1, b] * tz
+                    oz += wxa * w[i, 1, b] * tdz
+            out[i, 0, q] -= ox
+            out[i, 1, q] -= oy
+            out[i, 2, q] -= oz
