@@ -161,6 +161,10 @@ class InteractionOperator:
             self.n_applies += k
         return y.reshape(shape)
 
+    #: True for backends whose apply accuracy a Krylov solver may loosen as it converges
+    #: (they implement ``set_apply_accuracy(accuracy | None)``).
+    relaxable = False
+
     def _apply(self, x):  # pragma: no cover - abstract
         raise NotImplementedError
 

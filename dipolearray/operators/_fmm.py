@@ -75,6 +75,7 @@ class FMMOperator(InteractionOperator):
         if not 1e-15 <= acc < 1e-1:
             raise InputError(f"accuracy: {acc} is outside [1e-15, 0.1)", "accuracy")
         self.accuracy = acc
+        self.apply_accuracy = acc
         self._sources = np.asfortranarray(np.asarray(scene.positions, dtype=np.float64).T)
 
     def _run(self, x, targets=None):
@@ -84,7 +85,7 @@ class FMMOperator(InteractionOperator):
         dip = np.ascontiguousarray(x.transpose(2, 1, 0))  # (K, 3, N)
         if k == 1:
             dip = dip[0]
-        kw = dict(eps=self.accuracy / EPS_MARGIN, sources=self._sources, dipvec=dip, nd=k)
+        kw = dict(eps=self.apply_accuracy / EPS_MARGIN, sources=self._sources, dipvec=dip, nd=k)
         if targets is None:
             out = fmm3dpy.lfmm3d(pg=2, **kw)
             grad = out.grad
@@ -93,6 +94,22 @@ class FMMOperator(InteractionOperator):
             grad = out.gradtarg
         grad = np.asarray(grad).reshape(k, 3, -1)
         return np.ascontiguousarray((-4.0 * math.pi * grad).transpose(2, 1, 0))
+
+    #: The accuracy of an apply may be loosened while a Krylov solve converges (see
+    #: :meth:`set_apply_accuracy`).
+    relaxable = True
+
+    def set_apply_accuracy(self, accuracy=None):
+        """Accuracy of the following applies: ``None`` restores the operator's own ``accuracy``.
+
+        Inexact Krylov methods may loosen it as the residual falls (Simoncini & Szyld
+        2003; Bouras & Fraysse 2005); it is never set tighter than ``accuracy`` nor
+        looser than 1e-2.
+        """
+        if accuracy is None:
+            self.apply_accuracy = self.accuracy
+        else:
+            self.apply_accuracy = min(max(float(accuracy), self.accuracy), 1e-2)
 
     def _apply(self, x):
         return self._run(x)

@@ -236,6 +236,9 @@ def _run(system, chosen, why, method, start, rtol, atol, maxiter, callback, rela
         p, history, iterations, reason = cocg(
             system, rtol=rtol, atol=atol, maxiter=maxiter, x0=start, callback=callback
         )
+        if getattr(system, "apply_accuracies", None):
+            # Inexact Krylov: the accuracy of each iteration's apply (fast multipole).
+            extra["apply_accuracy"] = [float(a) for a in system.apply_accuracies]
         if reason != "converged" and method == "auto":
             extra["cocg_reason"] = reason
             why += f"; COCG stopped ({reason}) after {iterations} iterations, continued with GMRES"

@@ -10,7 +10,11 @@ def _bilinear(x, y):
     return np.einsum("nck,nck->k", x, y)
 
 
-def cocg(system, *, rtol, atol, maxiter, x0, callback, max_restarts=3, final_check=True):
+#: Ceiling on the relaxed apply accuracy in an inexact COCG solve.
+RELAX_CEILING = 1e-3
+
+
+def cocg(system, *, rtol, atol, maxiter, x0, callback, max_restarts=3, final_check=True, relax=True):
     """COCG on the symmetrised moment equations, all right-hand sides batched.
 
     Returns ``(p, history, iterations, reason)``. The monitored residual is mapped
@@ -19,6 +23,14 @@ def cocg(system, *, rtol, atol, maxiter, x0, callback, max_restarts=3, final_che
     from the current iterate follows if the recurrence has drifted (skipped with
     ``final_check=False``, for inner solves whose caller checks the outer residual).
     A zero start costs no apply.
+
+    Inexact Krylov: on an operator that allows it (``op.relaxable``, the fast
+    multipole backend), the accuracy of the apply at step k is loosened to
+    ``accuracy / r_k`` (``r_k`` the largest relative residual of the active columns),
+    at most ``RELAX_CEILING``: errors made once the residual is small perturb the
+    iterate in proportion to that residual (Simoncini & Szyld 2003; van den Eshof &
+    Sleijpen 2004). The final true residual is computed at full accuracy, and a
+    restart follows if it misses the tolerance.
 
     References
     ----------
@@ -38,6 +50,10 @@ def cocg(system, *, rtol, atol, maxiter, x0, callback, max_restarts=3, final_che
     def sym_apply(q):
         return q - block_apply(half, system.op.apply(block_apply(half, q)))
 
+    op = system.op
+    relax = bool(relax and getattr(op, "relaxable", False))
+    relaxed = []
+
     # q0 with alpha^1/2 q0 = x0: x0 defaults to the isolated response alpha E0 = alpha^1/2 c.
     q = _initial_q(system, half, x0, c)
     p = None
@@ -51,6 +67,10 @@ def cocg(system, *, rtol, atol, maxiter, x0, callback, max_restarts=3, final_che
         rho = _bilinear(r, r)
         while not np.all(rn <= tol) and it < maxiter:
             active = rn > tol
+            if relax:
+                level = float(np.max(history[-1][active]))
+                op.set_apply_accuracy(min(op.accuracy / max(level, 1e-300), RELAX_CEILING))
+                relaxed.append(op.apply_accuracy)
             w = sym_apply(d)
             mu = _bilinear(d, w)
             scale_ok = np.abs(mu) > 1e-300
@@ -72,6 +92,9 @@ def cocg(system, *, rtol, atol, maxiter, x0, callback, max_restarts=3, final_che
             if not np.all(np.isfinite(rn)):
                 reason = "breakdown"
                 break
+        if relax:
+            op.set_apply_accuracy(None)
+            system.apply_accuracies = list(relaxed)
         p = block_apply(half, q)
         if system.dtype.kind == "f":
             p = p.real.astype(np.float64)
