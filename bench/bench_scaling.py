@@ -15,6 +15,9 @@ Run:  env -u OPENBLAS_CORETYPE -u OPENBLAS_L2_SIZE python bench/bench_scaling.py
    tolerance, as ``backend="auto"`` asks) against plain Ewald (same accuracy) up to
    N = 1e4; prints time, iterations, the cost exponent between successive N and the
    peak memory.
+4. With --pme-crossover: one apply of plain Ewald against smooth PME (periodic random
+   0.2, N = 500 .. 8000, accuracies 1e-4, 1e-7, 1e-10): the crossover that
+   ``operators._pme.PME_CROSSOVER`` records for ``backend="auto"``.
 """
 
 from __future__ import annotations
@@ -82,6 +85,36 @@ def solves(sizes):
         )
 
 
+def pme_crossover(sizes=(500, 1000, 2000, 4000, 8000), accuracies=(1e-4, 1e-7, 1e-10)):
+    """One apply (three right-hand sides) of plain Ewald against smooth PME, periodic random 0.2."""
+    from dipolearray.operators import EwaldOperator, PMEOperator
+
+    first = {}
+    print("N        " + "   ".join(f"ewald/pme@{a:g} (s, s, ratio, err)" for a in accuracies))
+    for n in sizes:
+        arr = random_sequential_addition(n, 0.2, region="periodic", rng=0)
+        sc = da.Scene.from_arrangement(
+            arr, da.Population(da.Sphere(1.0), da.Material(10.0)), host=da.Material(1.0)
+        )
+        x = np.random.default_rng(0).standard_normal((n, 3, 3))
+        cells = []
+        for a in accuracies:
+            ops = [EwaldOperator(sc, accuracy=a), PMEOperator(sc, accuracy=a)]
+            times, ys = [], []
+            for op in ops:
+                op.apply(x)  # compile / warm
+                t = time.perf_counter()
+                ys.append(op.apply(x))
+                times.append(time.perf_counter() - t)
+            err = np.linalg.norm(ys[1] - ys[0]) / np.linalg.norm(ys[0])
+            cells.append(f"{times[0]:.3f} {times[1]:.3f} {times[0] / times[1]:5.2f}x {err:.0e}")
+            if times[1] < times[0] and a not in first:
+                first[a] = n
+        print(f"{n:<8d} " + "   ".join(cells), flush=True)
+    for a in accuracies:
+        print(f"PME crossover at accuracy {a:g}: N = {first.get(a, '> ' + str(sizes[-1]))}")
+
+
 def periodic(sizes, accuracy=1e-7, rtol=1e-6, ewald_max=10000):
     """Periodic solves (random 0.2, contrast 10) by smooth PME, against Ewald up to ``ewald_max``."""
     from dipolearray.operators import EwaldOperator, PMEOperator
@@ -117,8 +150,11 @@ if __name__ == "__main__":
     ap.add_argument(
         "--periodic", type=int, nargs="*", default=None, help="only the periodic PME solves at these N"
     )
+    ap.add_argument("--pme-crossover", action="store_true", help="only the Ewald / PME apply crossover")
     args = ap.parse_args()
-    if args.periodic is not None:
+    if args.pme_crossover:
+        pme_crossover()
+    elif args.periodic is not None:
         periodic(args.periodic or [3000, 10000, 30000, 100000])
     elif args.quick:
         crossover([2000, 5000], [1e-3, 1e-6])

@@ -50,6 +50,17 @@ def make_operator(scene, backend: str = "auto", **options) -> InteractionOperato
     check_choice(backend, "backend", ("auto",) + available_backends())
     if backend == "auto":
         if scene.boundary == "periodic":
+            from ._pme import pme_crossover
+
+            acc = options.get("accuracy")
+            if acc is not None and scene.n_bodies >= pme_crossover(float(acc)):
+                n_cross = pme_crossover(float(acc))
+                op = _BACKENDS["pme"](scene, accuracy=float(acc))
+                op.reason = (
+                    f"auto: periodic boundary, N = {scene.n_bodies} >= {n_cross} (measured smooth-PME "
+                    f"crossover at accuracy {float(acc):g}); " + op.describe()
+                )
+                return op
             op = _BACKENDS["ewald"](scene, **options)
             op.reason = "auto: periodic boundary; " + op.describe()
             return op

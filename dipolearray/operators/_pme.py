@@ -9,6 +9,23 @@ from ..errors import InputError
 from ._base import register_backend
 from ._ewald import EwaldOperator
 
+#: Bodies from which one smooth-PME apply (three right-hand sides) beats plain Ewald, by
+#: requested accuracy (``accuracy >= first entry`` -> second); PME needs 1e-10 or looser.
+#: Measured with ``bench/bench_scaling.py --pme-crossover`` on the 2-core reference machine
+#: (periodic random spheres at 0.2): PME is 1.4x faster at N = 1000 at 1e-4 (0.8x at 500),
+#: 1.5-1.8x at 500-1000 at 1e-7, 1.1-1.4x at 500-1000 at 1e-10, and 3.3-6.4x at 8000.
+PME_CROSSOVER = ((1e-5, 1000), (1e-8, 1000), (1e-10, 1000), (0.0, 10**12))
+
+
+def pme_crossover(accuracy) -> int:
+    """Body count from which ``backend="auto"`` picks smooth PME over plain Ewald for ``accuracy``."""
+    if accuracy >= 1e-2:
+        return 10**12
+    for acc, n in PME_CROSSOVER:
+        if accuracy >= acc:
+            return n
+    return PME_CROSSOVER[-1][1]
+
 
 def _bspline_moduli(K, n):
     """``|b(m)|^2`` of the order-``n`` B-spline interpolation on ``K`` points (Essmann et al. 1995)."""

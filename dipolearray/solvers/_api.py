@@ -119,6 +119,8 @@ def solve(
 
     chosen, why = _choose(method, scene, m)
     extra = {}
+    if getattr(system.op, "reason", None):
+        extra["backend_reason"] = system.op.reason  # why make_operator chose this backend
     adaptive = hasattr(system.op, "extended") and getattr(system.op, "adaptive", False)
     # With pairs still to add from the solved multipoles, the first solve only has to show
     # which: a loose tolerance serves, the corrections below reach the requested one.
@@ -266,6 +268,14 @@ def _make_op(scene, backend, rtol, options=None):
     if backend in ("auto", "fmm") and scene.boundary == "open":
         # A multipole error a tenth of the tolerance keeps the measured residual honest.
         return make_operator(scene, backend, accuracy=min(1e-3, max(1e-14, 0.1 * rtol)))
+    if backend == "auto" and scene.boundary == "periodic":
+        from ..operators._pme import pme_crossover
+
+        # Large boxes: smooth PME at a tenth of the tolerance; below the crossover plain
+        # Ewald at its own (tighter) default accuracy.
+        acc = min(1e-3, 0.1 * rtol)
+        if scene.n_bodies >= pme_crossover(acc):
+            return make_operator(scene, backend, accuracy=acc)
     return make_operator(scene, backend)
 
 

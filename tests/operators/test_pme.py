@@ -55,3 +55,32 @@ def test_pme_bad_input():
     open_scene = da.Scene(np.zeros((1, 3)), da.Population(da.Sphere(1.0), da.Material(3.0)))
     with pytest.raises(da.InputError, match="backend"):
         PMEOperator(open_scene)
+
+
+def test_automatic_choice_picks_pme_only_above_the_crossover_and_meets_the_accuracy(monkeypatch):
+    import dipolearray.operators._pme as pme
+
+    sc = _scene("clustered")
+    # Below the measured crossover: plain Ewald, as before.
+    assert da.solve(sc, "cocg", rtol=1e-8).backend == "ewald"
+    assert make_operator(sc, "auto", accuracy=1e-7).backend == "ewald"
+    monkeypatch.setattr(pme, "PME_CROSSOVER", ((1e-5, 100), (1e-8, 300), (1e-10, 1000), (0.0, 10**12)))
+    assert pme.pme_crossover(1e-4) == 100 and pme.pme_crossover(1e-9) == 1000
+    assert pme.pme_crossover(1e-11) == 10**12 and pme.pme_crossover(0.05) == 10**12
+    ref = make_operator(sc, "ewald", accuracy=1e-13)
+    x = np.random.default_rng(3).standard_normal((sc.n_bodies, 3, 1))
+    for acc in (1e-4, 1e-7):
+        op = make_operator(sc, "auto", accuracy=acc)
+        assert op.backend == "pme" and f"{acc:g}" in op.reason
+        err = np.linalg.norm(op.apply(x) - ref.apply(x)) / np.linalg.norm(ref.apply(x))
+        assert err <= acc
+    # 1e-9 needs 1000 bodies here; 1e-11 is beyond the mesh: Ewald.
+    assert make_operator(sc, "auto", accuracy=1e-9).backend == "ewald"
+    assert make_operator(sc, "auto", accuracy=1e-11).backend == "ewald"
+    # Through the solver: a tenth of the tolerance, and the tensor of the Ewald solve.
+    sol = da.solve(sc, "cocg", rtol=1e-6)
+    assert sol.backend == "pme" and "crossover" in sol.extra["backend_reason"]
+    ewald = da.solve(sc, "cocg", rtol=1e-6, backend="ewald")
+    np.testing.assert_allclose(
+        da.effective_permittivity(sol).tensor, da.effective_permittivity(ewald).tensor, atol=3e-6
+    )
