@@ -15,7 +15,15 @@ Run:  env -u OPENBLAS_CORETYPE -u OPENBLAS_L2_SIZE python bench/bench_scaling.py
    tolerance, as ``backend="auto"`` asks) against plain Ewald (same accuracy) up to
    N = 1e4; prints time, iterations, the cost exponent between successive N and the
    peak memory.
-4. With --pme-crossover: one apply of plain Ewald against smooth PME (periodic random
+4. With --open N ...: the open state (random spheres at 0.2 in a spherical sample,
+   contrast 10, tolerance 1e-6, three field directions) solved by COCG on the
+   free-space particle-mesh backend (accuracy 1e-7, relaxed by decades as the residual
+   falls): build and solve time, iterations, applies per accuracy level, the cost
+   exponent between successive N, peak memory; against the direct solve up to 2e4.
+5. With --mesh-crossover: one apply (three right-hand sides) of the direct kernel
+   against the particle-mesh backend at accuracies 1e-3, 1e-6, 1e-9 (what
+   ``operators._mesh.MESH_CROSSOVER`` records for ``backend="auto"``).
+6. With --pme-crossover: one apply of plain Ewald against smooth PME (periodic random
    0.2, N = 500 .. 8000, accuracies 1e-4, 1e-7, 1e-10): the crossover that
    ``operators._pme.PME_CROSSOVER`` records for ``backend="auto"``.
 """
@@ -143,6 +151,75 @@ def periodic(sizes, accuracy=1e-7, rtol=1e-6, ewald_max=10000):
         print(line + f"; peak RSS so far {rss:.2f} GB", flush=True)
 
 
+def open_solves(sizes, accuracy=1e-7, rtol=1e-6, direct_max=20000):
+    """Open solves (random 0.2 in a sphere, contrast 10) by the particle-mesh backend."""
+    from collections import Counter
+
+    from dipolearray.operators import MeshOperator
+
+    warm = scene(2000)
+    da.solve(warm, "cocg", rtol=rtol, operator=MeshOperator(warm, accuracy=accuracy))
+    prev = None
+    for n in sizes:
+        t = time.perf_counter()
+        sc = scene(n, seed=1)
+        tg = time.perf_counter() - t
+        t = time.perf_counter()
+        op = MeshOperator(sc, accuracy=accuracy)
+        tb = time.perf_counter() - t
+        t = time.perf_counter()
+        sol = da.solve(sc, "cocg", rtol=rtol, operator=op)
+        ts = time.perf_counter() - t
+        total = tb + ts
+        levels = Counter(f"{a:.0e}" for a in sol.extra.get("apply_accuracy", []))
+        line = (
+            f"open N = {n}: scene {tg:.1f} s, build {tb:.1f} s, solve {ts:.1f} s, total {total:.1f} s, "
+            f"{sol.iterations} iterations, converged {sol.converged}, final residual "
+            f"{float(np.max(sol.residual_history[-1])):.1e}, relaxed applies {dict(levels)}; {op.describe()}"
+        )
+        if prev is not None:
+            line += f"; exponent from N = {prev[0]}: {math.log(total / prev[1]) / math.log(n / prev[0]):.2f}"
+        prev = (n, total)
+        if n <= direct_max:
+            t = time.perf_counter()
+            ref = da.solve(sc, "cocg", rtol=rtol, backend="direct")
+            td = time.perf_counter() - t
+            d = np.abs(da.effective_permittivity(sol).tensor - da.effective_permittivity(ref).tensor).max()
+            line += f"; direct {td:.1f} s ({td / total:.1f}x), tensors differ by {d:.1e}"
+        rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1e6
+        print(line + f"; peak RSS so far {rss:.2f} GB", flush=True)
+        del sol, op, sc
+
+
+def mesh_crossover(sizes=(2000, 4000, 8000, 16000, 32000, 64000), accuracies=(1e-3, 1e-6, 1e-9, 1e-12)):
+    """One apply (three right-hand sides) of the direct kernel against the particle-mesh backend."""
+    from dipolearray.operators import DirectOperator, MeshOperator
+
+    first = {}
+    print("N        direct_s   " + "   ".join(f"mesh@{a:g} (s, ratio, err)" for a in accuracies))
+    for n in sizes:
+        sc = scene(n)
+        x = np.random.default_rng(0).standard_normal((n, 3, 3))
+        d = DirectOperator(sc)
+        d.apply(x)  # compile / warm
+        t = time.perf_counter()
+        ref = d.apply(x)
+        td = time.perf_counter() - t
+        cells = []
+        for a in accuracies:
+            t = time.perf_counter()
+            op = MeshOperator(sc, accuracy=a)
+            y = op.apply(x)
+            tm = time.perf_counter() - t  # build included: auto pays it once per solve
+            err = np.linalg.norm(y - ref) / np.linalg.norm(ref)
+            cells.append(f"{tm:.3f} {td / tm:5.2f}x {err:.0e}")
+            if tm < td and a not in first:
+                first[a] = n
+        print(f"{n:<8d} {td:9.3f}   " + "   ".join(cells), flush=True)
+    for a in accuracies:
+        print(f"mesh crossover at accuracy {a:g}: N = {first.get(a, '> ' + str(sizes[-1]))}")
+
+
 if __name__ == "__main__":
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--quick", action="store_true", help="small sizes only (smoke run)")
@@ -151,8 +228,14 @@ if __name__ == "__main__":
         "--periodic", type=int, nargs="*", default=None, help="only the periodic PME solves at these N"
     )
     ap.add_argument("--pme-crossover", action="store_true", help="only the Ewald / PME apply crossover")
+    ap.add_argument("--open", type=int, nargs="*", default=None, help="only the open particle-mesh solves")
+    ap.add_argument("--mesh-crossover", action="store_true", help="only the direct / mesh apply crossover")
     args = ap.parse_args()
-    if args.pme_crossover:
+    if args.open is not None:
+        open_solves(args.open or [10000, 100000, 1000000])
+    elif args.mesh_crossover:
+        mesh_crossover()
+    elif args.pme_crossover:
         pme_crossover()
     elif args.periodic is not None:
         periodic(args.periodic or [3000, 10000, 30000, 100000])

@@ -27,6 +27,9 @@ MultipoleOperator, BodyResponse, sphere_response, pair_model, pair_dipoles
     Spheres beyond the point dipole: induced multipoles to order L on near pairs
     (rotate-translate-rotate), point dipoles for the rest; the sphere response of each
     degree; the two-sphere model that picks orders and estimates the dipole error.
+MeshOperator, mesh_parameters
+    Open scenes by free-space particle-mesh summation (Gaussian split, zero-padded
+    FFT convolution), O(N + n^3 log n) per apply on both cores.
 FMMOperator, fmm_available
     Open scenes by the Laplace fast multipole method (fmm3dpy), O(N) per apply at a
     requested accuracy.
@@ -47,6 +50,7 @@ from ._base import (
 from ._direct import DirectOperator
 from ._ewald import EwaldOperator, ewald_parameters
 from ._fmm import FMMOperator, fmm_available
+from ._mesh import MeshOperator, mesh_parameters
 from ._multipole import BodyResponse, MultipoleOperator, pair_dipoles, pair_model, sphere_response
 from ._pme import PMEOperator
 from ._threads import get_num_threads, set_num_threads
@@ -58,6 +62,8 @@ __all__ = [
     "ewald_parameters",
     "FMMOperator",
     "PMEOperator",
+    "MeshOperator",
+    "mesh_parameters",
     "MultipoleOperator",
     "BodyResponse",
     "sphere_response",

@@ -65,8 +65,17 @@ def make_operator(scene, backend: str = "auto", **options) -> InteractionOperato
             op.reason = "auto: periodic boundary; " + op.describe()
             return op
         from ._fmm import fmm_available, fmm_crossover
+        from ._mesh import mesh_crossover
 
         acc = float(options.get("accuracy", 1e-10))
+        n_mesh = mesh_crossover(acc)
+        if scene.n_bodies >= n_mesh:
+            op = _BACKENDS["mesh"](scene, accuracy=acc)
+            op.reason = (
+                f"auto: open boundary, N = {scene.n_bodies} >= {n_mesh} (measured particle-mesh "
+                f"crossover at accuracy {acc:g}); " + op.describe()
+            )
+            return op
         n_cross = fmm_crossover(acc)
         if scene.n_bodies >= n_cross and fmm_available():
             op = _BACKENDS["fmm"](scene, accuracy=acc)
@@ -77,8 +86,8 @@ def make_operator(scene, backend: str = "auto", **options) -> InteractionOperato
             return op
         op = _BACKENDS["direct"](scene)
         op.reason = (
-            f"auto: open boundary, N = {scene.n_bodies} < {n_cross} (fast-multipole crossover at accuracy "
-            f"{acc:g}): direct O(N^2) kernel, exact"
+            f"auto: open boundary, N = {scene.n_bodies} below the particle-mesh ({n_mesh}) and "
+            f"fast-multipole ({n_cross}) crossovers at accuracy {acc:g}: direct O(N^2) kernel, exact"
         )
         return op
     if backend == "multipole" and scene.boundary == "periodic":

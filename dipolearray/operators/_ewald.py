@@ -32,6 +32,44 @@ def ewald_parameters(box, n_bodies, accuracy):
     return alpha, s / alpha, 2.0 * alpha * s
 
 
+def screening_setup(alpha, r_cut, accuracy, r0):
+    """Table of the real-space screening functions from ``r0`` to ``r_cut``: ``(table, r0, h)``.
+
+    Cubic Hermite interpolation: the error ~ h^4 max|g| / 384 with g ~ 10 alpha^4 stays
+    below 1e-3 accuracy for h = (3.8e-4 * accuracy)^(1/4) / alpha; at most 200001 nodes.
+    """
+    from ._kernels import screening_table
+
+    h = min((3.8e-4 * accuracy) ** 0.25 / alpha, (r_cut - r0) / 16)
+    n_nodes = min(int(math.ceil((r_cut - r0) / h)) + 2, 200001)
+    h = (r_cut - r0) / (n_nodes - 2)
+    return screening_table(alpha, r0, r0 + h * (n_nodes - 1), n_nodes), r0, h
+
+
+def setup_real_space(op, scene):
+    """Cell list, screening-function table and self term of an Ewald-split operator.
+
+    Reads ``op.box``, ``op._pos`` (in ``[0, box)``), ``op.n_bodies``, ``op.accuracy``,
+    ``op.r_cut`` and ``op.alpha``; sets the cell list, the table of the screening
+    functions and ``op._self`` (the self term ``4 alpha^3 / (3 sqrt(pi))``).
+    """
+    L, pos, n, acc = op.box, op._pos, op.n_bodies, op.accuracy
+    # Cell list for the real-space sum.
+    ncell = np.maximum(1, np.floor(L / op.r_cut)).astype(np.int64)
+    cell = np.minimum((pos / (L / ncell)).astype(np.int64), ncell - 1)
+    flat = (cell[:, 0] * ncell[1] + cell[:, 1]) * ncell[2] + cell[:, 2]
+    order = np.argsort(flat, kind="stable")
+    op._items = np.ascontiguousarray(order, dtype=np.int64)
+    op._start = np.ascontiguousarray(
+        np.searchsorted(flat[order], np.arange(int(np.prod(ncell)) + 1)), dtype=np.int64
+    )
+    op._cell_of = np.ascontiguousarray(cell)
+    op._ncell = ncell
+    r0 = 0.25 * float(scene.bounding_radii.min()) if n else 0.0
+    op._table, op._table_r0, op._table_h = screening_setup(op.alpha, op.r_cut, acc, r0)
+    op._self = 4.0 * op.alpha**3 / (3.0 * math.sqrt(math.pi))
+
+
 @register_backend("ewald")
 class EwaldOperator(InteractionOperator):
     """Point-dipole coupling in an orthorhombic periodic box by Ewald summation (tin-foil boundary).
@@ -111,30 +149,7 @@ class EwaldOperator(InteractionOperator):
 
     def _setup_real_space(self, scene):
         """Cell list, screening-function table and self term for ``self.alpha`` and ``self.r_cut``."""
-        L, pos, n, acc = self.box, self._pos, self.n_bodies, self.accuracy
-        # Cell list for the real-space sum.
-        ncell = np.maximum(1, np.floor(L / self.r_cut)).astype(np.int64)
-        cell = np.minimum((pos / (L / ncell)).astype(np.int64), ncell - 1)
-        flat = (cell[:, 0] * ncell[1] + cell[:, 1]) * ncell[2] + cell[:, 2]
-        order = np.argsort(flat, kind="stable")
-        self._items = np.ascontiguousarray(order, dtype=np.int64)
-        self._start = np.ascontiguousarray(
-            np.searchsorted(flat[order], np.arange(int(np.prod(ncell)) + 1)), dtype=np.int64
-        )
-        self._cell_of = np.ascontiguousarray(cell)
-        self._ncell = ncell
-        # Screening functions tabulated for cubic Hermite interpolation: the error
-        # ~ h^4 max|g| / 384 with g ~ 10 alpha^4 stays below 1e-3 accuracy for
-        # h = (3.8e-4 * accuracy)^(1/4) / alpha; at most 200001 nodes.
-        from ._kernels import screening_table
-
-        r0 = 0.25 * float(scene.bounding_radii.min()) if n else 0.0
-        h = min((3.8e-4 * acc) ** 0.25 / self.alpha, (self.r_cut - r0) / 16)
-        n_nodes = min(int(math.ceil((self.r_cut - r0) / h)) + 2, 200001)
-        h = (self.r_cut - r0) / (n_nodes - 2)
-        self._table_r0, self._table_h = r0, h
-        self._table = screening_table(self.alpha, r0, r0 + h * (n_nodes - 1), n_nodes)
-        self._self = 4.0 * self.alpha**3 / (3.0 * math.sqrt(math.pi))
+        setup_real_space(self, scene)
 
     def _apply(self, x):
         from ._kernels import ewald_field

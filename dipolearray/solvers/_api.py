@@ -268,6 +268,8 @@ def _make_op(scene, backend, rtol, options=None):
     if backend in ("auto", "fmm") and scene.boundary == "open":
         # A multipole error a tenth of the tolerance keeps the measured residual honest.
         return make_operator(scene, backend, accuracy=min(1e-3, max(1e-14, 0.1 * rtol)))
+    if backend == "mesh":
+        return make_operator(scene, backend, accuracy=min(1e-3, max(1e-12, 0.1 * rtol)))
     if backend == "auto" and scene.boundary == "periodic":
         from ..operators._pme import pme_crossover
 

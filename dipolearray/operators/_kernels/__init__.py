@@ -18,6 +18,7 @@ from ._ewald import (
     structure_factors,
 )
 from ._jit import get_num_threads, set_num_threads
+from ._mesh import mesh_gather, mesh_spread, mesh_starts, open_real
 from ._multipole import low_order_field as multipole_low_order_field
 from ._multipole import near_field as multipole_near_field
 from ._pme import pme_gather, pme_spread, pme_weights
@@ -33,6 +34,10 @@ __all__ = [
     "pme_spread",
     "pme_gather",
     "pme_weights",
+    "mesh_spread",
+    "mesh_gather",
+    "mesh_starts",
+    "open_real",
     "screening_table",
     "set_num_threads",
     "get_num_threads",
