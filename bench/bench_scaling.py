@@ -23,7 +23,10 @@ Run:  env -u OPENBLAS_CORETYPE -u OPENBLAS_L2_SIZE python bench/bench_scaling.py
 5. With --mesh-crossover: one apply (three right-hand sides) of the direct kernel
    against the particle-mesh backend at accuracies 1e-3, 1e-6, 1e-9 (what
    ``operators._mesh.MESH_CROSSOVER`` records for ``backend="auto"``).
-6. With --pme-crossover: one apply of plain Ewald against smooth PME (periodic random
+6. With --iterations: COCG iteration counts against N (1e3 .. 6.4e4) at fixed volume
+   fraction and contrast (0.2 / 10, 0.3 / 100, 0.3 / 1e4), tolerance 1e-6: the body-block
+   Jacobi scaling (``alpha^1/2``) must keep them flat.
+7. With --pme-crossover: one apply of plain Ewald against smooth PME (periodic random
    0.2, N = 500 .. 8000, accuracies 1e-4, 1e-7, 1e-10): the crossover that
    ``operators._pme.PME_CROSSOVER`` records for ``backend="auto"``.
 """
@@ -220,6 +223,27 @@ def mesh_crossover(sizes=(2000, 4000, 8000, 16000, 32000, 64000), accuracies=(1e
         print(f"mesh crossover at accuracy {a:g}: N = {first.get(a, '> ' + str(sizes[-1]))}")
 
 
+def iteration_counts(sizes=(1000, 4000, 16000, 64000), states=((0.2, 10.0), (0.3, 100.0), (0.3, 1e4))):
+    """COCG iterations against N at fixed volume fraction and contrast (tolerance 1e-6)."""
+    import warnings
+
+    from dipolearray.solvers import NearContactWarning
+
+    print("phi   contrast   " + "  ".join(f"N={n}" for n in sizes))
+    for phi, contrast in states:
+        counts = []
+        for n in sizes:
+            sc = scene(n, phi=phi, contrast=contrast, seed=1)
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore", NearContactWarning)
+                sol = da.solve(sc, "cocg", rtol=1e-6)
+            counts.append(f"{sol.iterations}{'' if sol.converged else '!'}")
+        print(
+            f"{phi:<5} {contrast:<10g} "
+            + "  ".join(f"{c:>{len(str(n)) + 2}}" for c, n in zip(counts, sizes, strict=True))
+        )
+
+
 if __name__ == "__main__":
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--quick", action="store_true", help="small sizes only (smoke run)")
@@ -230,8 +254,11 @@ if __name__ == "__main__":
     ap.add_argument("--pme-crossover", action="store_true", help="only the Ewald / PME apply crossover")
     ap.add_argument("--open", type=int, nargs="*", default=None, help="only the open particle-mesh solves")
     ap.add_argument("--mesh-crossover", action="store_true", help="only the direct / mesh apply crossover")
+    ap.add_argument("--iterations", action="store_true", help="only the iteration counts against N")
     args = ap.parse_args()
-    if args.open is not None:
+    if args.iterations:
+        iteration_counts()
+    elif args.open is not None:
         open_solves(args.open or [10000, 100000, 1000000])
     elif args.mesh_crossover:
         mesh_crossover()

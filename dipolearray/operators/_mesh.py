@@ -246,9 +246,10 @@ class MeshOperator(InteractionOperator):
         if accuracy is None:
             level = self.accuracy
         else:
-            a = min(max(float(accuracy), self.accuracy), 1e-3)
-            decades = int(math.floor(math.log10(a / self.accuracy) + 1e-9))
-            level = min(self.accuracy * 10.0**decades, max(self.accuracy, 1e-3))
+            ceiling = max(1e-3, self.accuracy)
+            a = min(max(float(accuracy), self.accuracy), ceiling)
+            decades = max(0, int(math.floor(math.log10(a / self.accuracy) + 1e-9)))
+            level = min(self.accuracy * 10.0**decades, ceiling)
         self._level = self._get_level(level)
         self.apply_accuracy = level
 

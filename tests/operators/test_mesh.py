@@ -54,6 +54,10 @@ def test_relaxed_levels_are_coarser_meet_their_accuracy_and_restore():
             assert np.all(op._level.mesh < fine) and op._level.r_cut < op.r_cut
     op.set_apply_accuracy(None)
     assert op.apply_accuracy == 1e-9 and op._level is op._levels[1e-9]
+    # An operator looser than the relaxation ceiling is never tightened nor loosened.
+    loose = MeshOperator(sc, accuracy=5e-3)
+    loose.set_apply_accuracy(0.5)
+    assert loose.apply_accuracy == 5e-3 and len(loose._levels) == 1
 
 
 def _gauss(x, sigma):

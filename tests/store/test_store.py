@@ -181,3 +181,30 @@ def test_periodic_scene_round_trip(tmp_path):
     np.testing.assert_allclose(
         da.effective_permittivity(back).tensor, da.effective_permittivity(sol).tensor, rtol=1e-14
     )
+
+
+def test_saving_a_large_result_holds_no_second_copy_of_its_arrays(tmp_path):
+    # The store writes the solution's own read-only arrays chunk by chunk: the Python-side
+    # allocations during a save stay far below the size of the moments (tracemalloc sees
+    # numpy's buffers; HDF5's chunk cache is bounded by the chunk size, 64k numbers).
+    import dataclasses
+    import tracemalloc
+
+    from dipolearray.arrange import cubic_lattice_sphere
+
+    lay = cubic_lattice_sphere(2.5, 95.0)
+    s = da.Scene(lay.positions, da.Population(da.Sphere(1.0), da.Material(4.0 - 0.5j)))
+    small = da.solve(da.Scene(np.zeros((1, 3)), da.Population(da.Sphere(1.0), da.Material(4.0))), "direct")
+    alpha = np.asarray(s.polarizability)
+    moments = np.einsum("nij,kj->nik", alpha, s.field)  # the isolated response, (N, 3, 3) complex
+    sol = dataclasses.replace(small, scene=s, moments=moments, residual=np.zeros(3))
+    assert s.n_bodies > 200_000 and sol.moments.nbytes > 25e6
+    tracemalloc.start()
+    try:
+        path = save_result(tmp_path / "large.h5", sol)
+        _, peak = tracemalloc.get_traced_memory()
+    finally:
+        tracemalloc.stop()
+    assert peak < 0.25 * sol.moments.nbytes
+    with h5py.File(path) as f:
+        np.testing.assert_array_equal(f["solution/moments"][:1000], sol.moments[:1000])
