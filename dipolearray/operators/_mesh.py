@@ -269,6 +269,7 @@ class MeshOperator(InteractionOperator):
         A = np.empty((n0, n1, M2 // 2 + 1), dtype=np.complex128)
         for x0 in range(0, n0, step):
             A[x0 : x0 + step] = fft.rfft(rho[x0 : x0 + step], n=M2, axis=2, workers=-1)
+        del rho  # the caller passes its only reference: freed before the doubled-grid work
         ix = np.minimum(np.arange(M0), M0 - np.arange(M0))
         iy = np.minimum(np.arange(M1), M1 - np.arange(M1))
         nz = A.shape[2]
@@ -296,10 +297,9 @@ class MeshOperator(InteractionOperator):
         # One right-hand side at a time: the mesh memory does not grow with K.
         for q in range(p.shape[2]):
             pq = np.ascontiguousarray(p[:, :, q])
-            rho = np.zeros(shape)
-            mesh_spread(lev.u, pq, P, lev.h, lev.sigma, lev.order, lev.slabs, rho)
-            psi = self._convolve(rho, lev)
-            del rho
+            rho = [np.zeros(shape)]
+            mesh_spread(lev.u, pq, P, lev.h, lev.sigma, lev.order, lev.slabs, rho[0])
+            psi = self._convolve(rho.pop(), lev)
             oq = np.zeros_like(pq)
             mesh_gather(lev.u, P, lev.h, lev.sigma, lev.order, psi, oq)
             del psi
@@ -351,13 +351,15 @@ def _kernel_octant(alpha, sigma, h, fft_shape):
     # 1/(4 alpha'^2) = 1/(4 alpha^2) - sigma^2: the two Gaussians carry the rest.
     alpha_k = 1.0 / (2.0 * math.sqrt(1.0 / (4.0 * alpha**2) - sigma**2))
     axes = [np.arange(int(M) // 2 + 1, dtype=np.float64) * h for M in fft_shape]
-    r = np.sqrt(axes[0][:, None, None] ** 2 + axes[1][None, :, None] ** 2 + axes[2][None, None, :] ** 2)
+    K = np.empty(tuple(a.size for a in axes))
+    yz2 = axes[1][:, None] ** 2 + axes[2][None, :] ** 2
+    # Plane by plane: no temporary the size of the octant besides K itself. One h^3 per
+    # trapezoid rule: the convolution here and the gathering integral.
     with np.errstate(divide="ignore", invalid="ignore"):
-        K = erf(alpha_k * r) / r
-    K[0, 0, 0] = 2.0 * alpha_k / math.sqrt(math.pi)
-    del r
-    # One h^3 per trapezoid rule: the convolution here and the gathering integral.
-    K *= h**6
+        for i, x in enumerate(axes[0]):
+            r = np.sqrt(x * x + yz2)
+            K[i] = h**6 * erf(alpha_k * r) / r
+    K[0, 0, 0] = h**6 * 2.0 * alpha_k / math.sqrt(math.pi)
     # A kernel even in every axis on a circle of even length M has the real transform
     # DCT-I of its first M/2 + 1 samples (scipy's type-1 definition).
     return fft.dctn(K, type=1, overwrite_x=True, workers=-1)
