@@ -69,26 +69,34 @@ def make_operator(scene, backend: str = "auto", **options) -> InteractionOperato
 
         acc = float(options.get("accuracy", 1e-10))
         n_mesh = mesh_crossover(acc)
+        refused = ""
         if scene.n_bodies >= n_mesh:
-            op = _BACKENDS["mesh"](scene, accuracy=acc)
-            op.reason = (
-                f"auto: open boundary, N = {scene.n_bodies} >= {n_mesh} (measured particle-mesh "
-                f"crossover at accuracy {acc:g}); " + op.describe()
-            )
-            return op
+            try:
+                op = _BACKENDS["mesh"](scene, accuracy=acc)
+            except InputError as err:  # a thinly filled bounding box: the mesh would not fit
+                refused = f" (particle mesh refused: {err})"
+            else:
+                op.reason = (
+                    f"auto: open boundary, N = {scene.n_bodies} >= {n_mesh} (measured particle-mesh "
+                    f"crossover at accuracy {acc:g}); " + op.describe()
+                )
+                return op
         n_cross = fmm_crossover(acc)
         if scene.n_bodies >= n_cross and fmm_available():
             op = _BACKENDS["fmm"](scene, accuracy=acc)
             op.reason = (
                 f"auto: open boundary, N = {scene.n_bodies} >= {n_cross} (measured crossover at "
-                f"accuracy {acc:g}); " + op.describe()
+                f"accuracy {acc:g}){refused}; " + op.describe()
             )
             return op
         op = _BACKENDS["direct"](scene)
-        op.reason = (
-            f"auto: open boundary, N = {scene.n_bodies} below the particle-mesh ({n_mesh}) and "
-            f"fast-multipole ({n_cross}) crossovers at accuracy {acc:g}: direct O(N^2) kernel, exact"
-        )
+        if refused:
+            op.reason = f"auto: open boundary, N = {scene.n_bodies}: direct O(N^2) kernel, exact{refused}"
+        else:
+            op.reason = (
+                f"auto: open boundary, N = {scene.n_bodies} below the particle-mesh ({n_mesh}) and "
+                f"fast-multipole ({n_cross}) crossovers at accuracy {acc:g}: direct O(N^2) kernel, exact"
+            )
         return op
     if backend == "multipole" and scene.boundary == "periodic":
         from ._lattice import LatticeMultipoleOperator

@@ -112,6 +112,10 @@ class MeshOperator(InteractionOperator):
     neighbours : float
         Mean number of bodies inside the real-space cutoff: more neighbours mean a
         coarser mesh (the cost moves from the FFTs to the pair loop).
+    max_memory : float, bytes
+        Refuse (``InputError``) a mesh whose apply would hold more than this; the mesh
+        spans the bounding box, so bodies scattered thinly over a large box need one far
+        larger than their number suggests (``backend="auto"`` then falls back).
 
     Notes
     -----
@@ -134,7 +138,7 @@ class MeshOperator(InteractionOperator):
     summation for free-space Stokes potentials. Res. Math. Sci. 4, 1.
     """
 
-    def __init__(self, scene, accuracy=1e-8, neighbours=800.0):
+    def __init__(self, scene, accuracy=1e-8, neighbours=900.0, max_memory=12e9):
         super().__init__(scene)
         if scene.boundary != "open":
             raise InputError("backend: 'mesh' sums an open boundary; periodic scenes use 'pme'", "backend")
@@ -142,6 +146,7 @@ class MeshOperator(InteractionOperator):
         if not 1e-12 <= acc < 1e-2:
             raise InputError(f"accuracy: {acc} is outside [1e-12, 1e-2) for the mesh", "accuracy")
         nb = as_positive(neighbours, "neighbours")
+        self.max_memory = as_positive(max_memory, "max_memory")
         self.accuracy = acc
         self.apply_accuracy = acc
         pos = np.asarray(scene.positions, dtype=np.float64)
@@ -150,12 +155,9 @@ class MeshOperator(InteractionOperator):
         hi = pos.max(axis=0) if n else np.zeros(3)
         self._lo = lo
         self._extent = extent = np.maximum(hi - lo, 1e-9)
-        # Bodies per volume over the occupied part of the bounding box (a spherical sample
-        # fills half its box): cells holding about 64 bodies on average, occupied or not.
-        vol = float(np.prod(np.maximum(extent, 2.0 * float(scene.bounding_radii.max()))))
-        side = (64.0 * vol / max(n, 1)) ** (1.0 / 3.0)
-        occupied = np.unique(np.floor((pos - lo[None, :]) / side).astype(np.int64), axis=0).shape[0]
-        density = n / min(vol, occupied * side**3)
+        density = _local_density(
+            pos, float(np.prod(np.maximum(extent, 2.0 * float(scene.bounding_radii.max()))))
+        )
         rc = (3.0 * nb / (4.0 * math.pi * density)) ** (1.0 / 3.0)
         self.alpha = _screening_s(acc) / rc
         self.r_cut = rc
@@ -210,6 +212,16 @@ class MeshOperator(InteractionOperator):
         origin = self._lo - (P // 2) * h
         lev.mesh = np.array([int(math.floor(e / h)) + P + 2 for e in self._extent], dtype=np.int64)
         lev.fft_shape = np.array([_fast_even(2 * m - 1) for m in lev.mesh], dtype=np.int64)
+        need = mesh_memory(lev.mesh, lev.fft_shape)
+        if need > self.max_memory:
+            n0, n1, n2 = (int(m) for m in lev.mesh)
+            raise InputError(
+                f"backend: the 'mesh' backend needs about {need / 1e9:.3g} GB for this sample's bounding "
+                f"box ({n0} x {n1} x {n2} mesh points at accuracy {accuracy:g}), over max_memory = "
+                f"{self.max_memory / 1e9:.3g} GB; the bodies fill little of their bounding box: use "
+                "backend 'fmm' or 'direct', a looser accuracy, more neighbours, or a larger max_memory",
+                "backend",
+            )
         pos = np.asarray(self.scene.positions, dtype=np.float64)
         lev.u = np.ascontiguousarray((pos - origin[None, :]) / h)
         st = mesh_starts(lev.u, P)
@@ -334,6 +346,36 @@ class MeshOperator(InteractionOperator):
             f"mesh {'x'.join(map(str, lev.mesh))} (FFT {'x'.join(map(str, lev.fft_shape))}), "
             f"Gaussian {lev.n_points} points, accuracy {self.accuracy:g}"
         )
+
+
+def _local_density(pos, box_volume, k=16, n_sample=20000):
+    """Bodies per volume around the bodies: median of ``k / (4/3 pi r_k^3)`` over a sample.
+
+    ``r_k`` is the distance to the k-th nearest neighbour; the median over up to
+    ``n_sample`` bodies measures the density where the bodies are, whatever fraction of
+    the bounding box they fill (clusters, spherical samples, far-apart groups).
+    """
+    from scipy.spatial import cKDTree
+
+    n = pos.shape[0]
+    if n <= k:
+        return n / box_volume
+    rng = np.random.default_rng(0)
+    idx = rng.choice(n, size=min(n, n_sample), replace=False)
+    d, _ = cKDTree(pos).query(pos[idx], k=k + 1)
+    rk = np.maximum(d[:, -1], 1e-300)
+    return float(np.median(k / (4.0 / 3.0 * math.pi * rk**3)))
+
+
+def mesh_memory(mesh, fft_shape) -> float:
+    """Bytes one apply holds at its peak: two meshes, the half-padded transform and the kernel octant."""
+    n0, n1, n2 = (float(m) for m in mesh)
+    M0, M1, M2 = (float(m) for m in fft_shape)
+    return (
+        8 * 2 * n0 * n1 * n2
+        + 16 * n0 * n1 * (M2 // 2 + 1)
+        + 8 * (M0 // 2 + 1) * (M1 // 2 + 1) * (M2 // 2 + 1)
+    )
 
 
 class _Level:

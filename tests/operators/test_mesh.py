@@ -196,10 +196,36 @@ def test_mesh_bad_input():
         MeshOperator(sc, accuracy=0.05)
     with pytest.raises(da.InputError, match="neighbours"):
         MeshOperator(sc, neighbours=-3)
+    with pytest.raises(da.InputError, match="max_memory"):
+        MeshOperator(sc, max_memory=0)
     arr = random_sequential_addition(50, 0.1, region="periodic", rng=3)
     per = da.Scene.from_arrangement(arr, da.Population(da.Sphere(1.0), da.Material(4.0)))
     with pytest.raises(da.InputError, match="backend"):
         MeshOperator(per)
+
+
+def _far_apart_clusters():
+    # Two compact groups 4000 radii apart on a diagonal: a bounding box almost all empty.
+    arr = random_sequential_addition(400, 0.2, region="sphere", rng=6)
+    pos = np.concatenate([arr.positions, arr.positions + 4000.0 / math.sqrt(3.0)])
+    return da.Scene(pos, da.Population(da.Sphere(1.0), da.Material(5.0)))
+
+
+def test_a_mesh_too_large_for_memory_is_refused_and_auto_falls_back(monkeypatch):
+    import dipolearray.operators._mesh as mesh
+
+    sc = _far_apart_clusters()
+    with pytest.raises(da.InputError, match="max_memory") as err:
+        MeshOperator(sc, accuracy=1e-6)
+    assert "fmm" in str(err.value) and err.value.key == "backend"
+    # A normal sample of the same count fits easily.
+    ok = MeshOperator(_scene("random", n=800), accuracy=1e-6)
+    assert mesh.mesh_memory(ok.mesh, ok._level.fft_shape) < 1e8
+    monkeypatch.setattr(mesh, "MESH_CROSSOVER", ((0.0, 100),))
+    op = make_operator(sc, "auto", accuracy=1e-6)
+    assert op.backend == "direct" and "refused" in op.reason
+    x = np.random.default_rng(7).standard_normal((sc.n_bodies, 3, 1))
+    np.testing.assert_array_equal(op.apply(x), make_operator(sc, "direct").apply(x))
 
 
 def test_automatic_choice_picks_the_mesh_only_above_the_crossover_and_meets_the_accuracy(monkeypatch):
