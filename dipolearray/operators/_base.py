@@ -19,6 +19,16 @@ def register_backend(name: str):
     return deco
 
 
+def crossover_lookup(table, accuracy, loosest=1e-2) -> int:
+    """Body count from a crossover table ``((accuracy >= a, N), ...)``; none at ``loosest`` or looser."""
+    if accuracy >= loosest:
+        return 10**12
+    for acc, n in table:
+        if accuracy >= acc:
+            return n
+    return table[-1][1]
+
+
 def available_backends() -> tuple[str, ...]:
     """Names accepted by :func:`make_operator` (besides ``"auto"``)."""
     return tuple(sorted(_BACKENDS))

@@ -6,7 +6,7 @@ import numpy as np
 
 from .._validate import as_positive
 from ..errors import InputError
-from ._base import InteractionOperator, register_backend
+from ._base import InteractionOperator, crossover_lookup, register_backend
 from ._ewald import screening_setup
 
 #: Share ``x = sigma^2 / (2 T)`` of the screening variance ``T = 1/(4 alpha^2)`` carried by
@@ -34,12 +34,7 @@ MESH_CROSSOVER = ((1e-4, 20000), (1e-7, 32000), (1e-9, 64000), (1e-10, 90000), (
 
 def mesh_crossover(accuracy) -> int:
     """Body count from which ``backend="auto"`` picks the particle mesh on an open scene."""
-    if accuracy >= 1e-2:
-        return 10**12
-    for acc, n in MESH_CROSSOVER:
-        if accuracy >= acc:
-            return n
-    return MESH_CROSSOVER[-1][1]
+    return crossover_lookup(MESH_CROSSOVER, accuracy)
 
 
 def _screening_s(accuracy):

@@ -6,7 +6,7 @@ import numpy as np
 
 from .._validate import as_int, as_positive
 from ..errors import InputError
-from ._base import register_backend
+from ._base import crossover_lookup, register_backend
 from ._ewald import EwaldOperator
 
 #: Bodies from which one smooth-PME apply (three right-hand sides) beats plain Ewald, by
@@ -19,12 +19,7 @@ PME_CROSSOVER = ((1e-5, 1000), (1e-8, 1000), (1e-10, 1000), (0.0, 10**12))
 
 def pme_crossover(accuracy) -> int:
     """Body count from which ``backend="auto"`` picks smooth PME over plain Ewald for ``accuracy``."""
-    if accuracy >= 1e-2:
-        return 10**12
-    for acc, n in PME_CROSSOVER:
-        if accuracy >= acc:
-            return n
-    return PME_CROSSOVER[-1][1]
+    return crossover_lookup(PME_CROSSOVER, accuracy)
 
 
 def _bspline_moduli(K, n):

@@ -36,6 +36,12 @@ def _weights(u, n_points, h, norm, inv2s2, invs2, w, d):
     return s
 
 
+@numba.njit(inline="always", **JIT)
+def _constants(sigma):
+    """Normalisation, ``1/(2 sigma^2)`` and ``1/sigma^2`` of the one-dimensional Gaussian."""
+    return 1.0 / math.sqrt(2.0 * math.pi * sigma * sigma), 0.5 / (sigma * sigma), 1.0 / (sigma * sigma)
+
+
 @numba.njit(**JIT_PARALLEL)
 def mesh_starts(u, n_points):
     """First mesh index ``floor(u) - P/2 + 1`` of every body and axis, (N, 3) int64."""
@@ -76,44 +82,31 @@ def mesh_spread(u, p, n_points, h, sigma, order, slabs, Q):
     ``order`` lists the bodies slab by slab along x, ``slabs[s] .. slabs[s+1]`` being
     slab ``s``.
     """
-    norm = 1.0 / math.sqrt(2.0 * math.pi * sigma * sigma)
-    inv2s2 = 0.5 / (sigma * sigma)
-    invs2 = 1.0 / (sigma * sigma)
+    norm, inv2s2, invs2 = _constants(sigma)
     ns = slabs.shape[0] - 1
     for parity in range(2):
         half = (ns - parity + 1) // 2
         for hs in numba.prange(half):
-            wx = np.empty(n_points)
-            dx = np.empty(n_points)
-            wy = np.empty(n_points)
-            dy = np.empty(n_points)
-            wz = np.empty(n_points)
-            dz = np.empty(n_points)
+            t = np.empty((6, n_points))  # weights and derivatives along x, y, z
             s = 2 * hs + parity
             for k in range(slabs[s], slabs[s + 1]):
-                _spread_one(order[k], u, p, n_points, h, norm, inv2s2, invs2, wx, dx, wy, dy, wz, dz, Q)
+                _spread_one(
+                    order[k], u, p, n_points, h, norm, inv2s2, invs2, t[0], t[1], t[2], t[3], t[4], t[5], Q
+                )
 
 
 @numba.njit(**JIT_PARALLEL)
 def mesh_gather(u, n_points, h, sigma, order, Phi, out):
     """``out[i] -= sum_g grad_i G(r_i - g h) Phi[g]`` for one right-hand side (``out`` (N, 3))."""
-    norm = 1.0 / math.sqrt(2.0 * math.pi * sigma * sigma)
-    inv2s2 = 0.5 / (sigma * sigma)
-    invs2 = 1.0 / (sigma * sigma)
+    norm, inv2s2, invs2 = _constants(sigma)
     nb = u.shape[0]
     n1 = Phi.shape[1]
     n2 = Phi.shape[2]
     flat = Phi.reshape(-1)
     for k in numba.prange(nb):
         i = order[k]
-        wx = np.empty(n_points)
-        dx = np.empty(n_points)
-        wy = np.empty(n_points)
-        dy = np.empty(n_points)
-        wz = np.empty(n_points)
-        dz = np.empty(n_points)
-        U = np.empty(n_points)
-        V = np.empty(n_points)
+        t = np.empty((8, n_points))  # weights and derivatives along x, y, z; two z vectors
+        wx, dx, wy, dy, wz, dz, U, V = t[0], t[1], t[2], t[3], t[4], t[5], t[6], t[7]
         ix = _weights(u[i, 0], n_points, h, norm, inv2s2, invs2, wx, dx)
         iy = _weights(u[i, 1], n_points, h, norm, inv2s2, invs2, wy, dy)
         iz = _weights(u[i, 2], n_points, h, norm, inv2s2, invs2, wz, dz)
