@@ -26,9 +26,10 @@ TRUNCATION_PREFACTOR = 3.0
 #: beats the direct kernel, by requested accuracy (``accuracy >= first entry`` ->
 #: second); the mesh offers 1e-12 and looser. Measured with
 #: ``bench/bench_scaling.py --mesh-crossover`` on the 2-core reference machine (random
-#: spheres at 0.2 in a sphere): mesh/direct speed 0.94x at 16000 and 1.8x at 32000 for
-#: 1e-3; 0.49x at 16000 and 1.15x at 32000 for 1e-6; 0.61x at 32000 and 1.14x at 64000
-#: for 1e-9; 0.57x at 64000 for 1e-12 (the last entry extrapolated from the doubling).
+#: spheres at 0.2 in a sphere): mesh/direct speed 0.94-1.08x at 16000 and 1.8-2.3x at
+#: 32000 for 1e-3; 0.49-0.55x at 16000 and 1.01-1.15x at 32000 for 1e-6; 1.01-1.14x at
+#: 64000 for 1e-9; 0.53-0.57x at 64000 for 1e-12 (two runs; the last entry extrapolated
+#: from the doubling per doubling of N).
 MESH_CROSSOVER = ((1e-4, 20000), (1e-7, 32000), (1e-9, 64000), (1e-10, 90000), (1e-12, 130000), (0.0, 10**12))
 
 
